@@ -1,0 +1,113 @@
+"""A tiny math shim: one expression, two backends.
+
+Every physics function that takes a design variable (wing loading,
+thrust-to-weight, takeoff mass, a free flight speed) is written once with
+these helpers. They dispatch on the argument type: CasADi symbols (SX, MX,
+DM) go to CasADi, everything else to numpy. No Python ``if`` is taken on a
+value that may be symbolic; branches use :func:`if_else` or
+:func:`clip`-based forms.
+
+Examples
+--------
+Hand calculation: sqrt(16) = 4 on either backend.
+
+>>> float(sqrt(16.0))
+4.0
+>>> import casadi as ca
+>>> x = ca.SX.sym("x")
+>>> float(ca.Function("f", [x], [sqrt(x)])(16.0))
+4.0
+"""
+from __future__ import annotations
+
+import casadi as ca
+import numpy as np
+
+_CASADI_TYPES = (ca.SX, ca.MX, ca.DM)
+
+
+def is_symbolic(*args) -> bool:
+    """True when any argument is a CasADi SX/MX/DM object."""
+    return any(isinstance(a, _CASADI_TYPES) for a in args)
+
+
+def _pick(*args):
+    return ca if is_symbolic(*args) else np
+
+
+def sqrt(x):
+    """Square root."""
+    return _pick(x).sqrt(x)
+
+
+def exp(x):
+    """Exponential."""
+    return _pick(x).exp(x)
+
+
+def log(x):
+    """Natural logarithm."""
+    return _pick(x).log(x)
+
+
+def power(x, y):
+    """x ** y (with symbolic exponents allowed)."""
+    if is_symbolic(x, y):
+        return ca.power(x, y)
+    return np.power(x, y)
+
+
+def fmax(a, b):
+    """Element-wise maximum."""
+    if is_symbolic(a, b):
+        return ca.fmax(a, b)
+    return np.maximum(a, b)
+
+
+def fmin(a, b):
+    """Element-wise minimum."""
+    if is_symbolic(a, b):
+        return ca.fmin(a, b)
+    return np.minimum(a, b)
+
+
+def clip(x, lo, hi):
+    """Clip x to [lo, hi]."""
+    return fmin(fmax(x, lo), hi)
+
+
+def if_else(cond, a, b):
+    """a where cond holds, else b (both branches are evaluated)."""
+    if is_symbolic(cond, a, b):
+        return ca.if_else(cond, a, b)
+    return np.where(cond, a, b)
+
+
+def piecewise_linear(x, xs, ys):
+    """Piecewise-linear interpolation through (xs, ys), held flat outside.
+
+    Written as a sum of clipped ramps, so it is branch-free and works when
+    ``x`` (and even the table values) are CasADi symbols. Linear pieces keep
+    a monotone table monotone.
+
+    Parameters
+    ----------
+    x : float, array or symbol
+        Where to interpolate.
+    xs : sequence of float
+        Strictly increasing breakpoints (at least one).
+    ys : sequence of float or symbols
+        Values at the breakpoints.
+
+    Examples
+    --------
+    Hand calculation: halfway between (0, 1) and (1, 3) is 2.
+
+    >>> float(piecewise_linear(0.5, [0.0, 1.0], [1.0, 3.0]))
+    2.0
+    """
+    y = ys[0] + 0.0 * x
+    for i in range(len(xs) - 1):
+        slope = (ys[i + 1] - ys[i]) / (xs[i + 1] - xs[i])
+        y = y + slope * (clip(x, xs[i], xs[i + 1]) - xs[i])
+    return y

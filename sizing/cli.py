@@ -1,0 +1,169 @@
+"""The ``sizing`` console script: argument parsing, exit codes, printing.
+
+Exit codes: 0 solved; 2 bad input (YAML, schema, units, values); 3
+infeasible requirement set; 1 anything else. No traceback unless --debug.
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+
+EXIT_OK, EXIT_ERROR, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="sizing",
+        description="Requirement-driven conceptual aircraft sizing: constraint diagram, weight "
+                    "closure and the lightest design point that meets every requirement.")
+    p.add_argument("--debug", action="store_true", help="show tracebacks")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    s = sub.add_parser("solve", help="solve: design point, drivers, costs, margins")
+    s.add_argument("file")
+    s.add_argument("--json", action="store_true", help="print the result as one JSON object")
+
+    d = sub.add_parser("diagram", help="constraint diagram (PNG, SVG, PDF by suffix)")
+    d.add_argument("file")
+    d.add_argument("-o", "--output", default="diagram.png")
+    d.add_argument("--data", help="also write the sampled curves as CSV")
+    d.add_argument("--units", choices=("si", "us"), default="si")
+
+    st = sub.add_parser("study", help="trade study: sweeps or Monte Carlo sampling")
+    st.add_argument("file")
+    st.add_argument("-o", "--output", default="out")
+    st.add_argument("--workers", type=int, default=None, help="local processes (default: all cores)")
+    st.add_argument("--dask", metavar="ADDRESS", help="run on a Dask distributed scheduler")
+    st.add_argument("--limit", type=int, default=None, help="run only the first N points (quick checks)")
+
+    e = sub.add_parser("envelope", help="altitude-Mach envelope check of the sized design")
+    e.add_argument("file")
+    e.add_argument("-o", "--output", default="envelope.png")
+    e.add_argument("--data", help="also write the envelope table as CSV")
+    e.add_argument("--weight-fraction", type=float, default=None)
+
+    r = sub.add_parser("report", help="self-contained review report (HTML or Markdown)")
+    r.add_argument("file")
+    r.add_argument("-o", "--output", default="review.html")
+    r.add_argument("--format", choices=("html", "md"), default=None)
+
+    c = sub.add_parser("check", help="validate a requirement file only")
+    c.add_argument("file")
+
+    sub.add_parser("schema", help="print the JSON Schema of requirement files")
+    return p
+
+
+def _solve(path):
+    from .solve import solve
+    from .spec import load
+
+    spec = load(path)
+    return spec, solve(spec)
+
+
+def cmd_solve(args) -> int:
+    from . import report
+
+    spec, res = _solve(args.file)
+    if args.json:
+        print(report.to_json(res))
+    else:
+        print(report.summary(res, args.file))
+    return EXIT_OK if res.feasible else EXIT_INFEASIBLE
+
+
+def cmd_check(args) -> int:
+    from .report import CAUTION
+    from .spec import load
+
+    spec = load(args.file)
+    print(f"{args.file}: valid ({len(spec.requirements)} requirements, "
+          f"{spec.model.aircraft.propulsion.type}, objective {spec.model.objective})")
+    print(CAUTION)
+    return EXIT_OK
+
+
+def cmd_schema(args) -> int:
+    import json
+
+    from .spec import json_schema
+
+    print(json.dumps(json_schema(), indent=2))
+    return EXIT_OK
+
+
+def cmd_diagram(args) -> int:
+    from .plots import write_diagram
+
+    spec, res = _solve(args.file)
+    written = write_diagram(spec, res, args.output, data=args.data, units=args.units)
+    for w in written:
+        print(f"wrote {w}")
+    from .report import CAUTION
+    print(CAUTION)
+    return EXIT_OK if res.feasible else EXIT_INFEASIBLE
+
+
+def cmd_report(args) -> int:
+    from .review import write_report
+
+    spec, res = _solve(args.file)
+    fmt = args.format or ("md" if args.output.endswith(".md") else "html")
+    path = write_report(spec, res, args.output, fmt=fmt)
+    print(f"wrote {path}")
+    from .report import CAUTION
+    print(CAUTION)
+    return EXIT_OK if res.feasible else EXIT_INFEASIBLE
+
+
+def cmd_envelope(args) -> int:
+    from .envelope import run_envelope
+
+    spec, res = _solve(args.file)
+    if not res.feasible:
+        from . import report
+        print(report.summary(res, args.file))
+        return EXIT_INFEASIBLE
+    return run_envelope(spec, res, args.output, data=args.data, weight_fraction=args.weight_fraction)
+
+
+def cmd_study(args) -> int:
+    from .study import run_study_cli
+
+    return run_study_cli(args.file, args.output, workers=args.workers, dask=args.dask, limit=args.limit)
+
+
+COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagram": cmd_diagram,
+            "report": cmd_report, "envelope": cmd_envelope, "study": cmd_study}
+
+
+def main(argv=None) -> int:
+    args = _parser().parse_args(argv)
+    from .errors import InputError, SizingError
+
+    try:
+        return COMMANDS[args.command](args)
+    except InputError as e:
+        if args.debug:
+            raise
+        print(f"error: {e.describe()}", file=sys.stderr)
+        return EXIT_INPUT
+    except SizingError as e:
+        if args.debug:
+            raise
+        print(f"error: {e}", file=sys.stderr)
+        return EXIT_ERROR
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return EXIT_ERROR
+    except Exception as e:  # noqa: BLE001 - the CLI never shows a traceback without --debug
+        if args.debug:
+            raise
+        print(f"error: unexpected failure ({type(e).__name__}: {e}); rerun with --debug for details",
+              file=sys.stderr)
+        return EXIT_ERROR
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,170 @@
+"""Text and JSON output of a sizing result (no physics here).
+
+The terminal summary and the ``--json`` object of DESIGN §6. HTML and
+Markdown review reports live in :mod:`sizing.review`.
+"""
+from __future__ import annotations
+
+import json
+import math
+
+from .atmosphere import g0
+
+CAUTION = ("CAUTION: conceptual-design estimate only. Not for certification, airworthiness or "
+           "operational decisions; detailed analysis, test, the applicable regulations and "
+           "authorities govern. Have results reviewed by qualified engineers.")
+
+LBF_FT2 = 47.880259
+HP = 745.69987
+LB = 0.45359237
+
+
+def _num(x, digits=4):
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    return f"{x:,.{digits}g}" if abs(x) < 1e4 else f"{x:,.0f}"
+
+
+def step_for(unit: str, value: float):
+    """A readable step for 'what one more costs' lines, in the user's unit."""
+    if unit == "Mach":
+        return 0.01
+    if unit in ("g", "%"):
+        return 1.0 if unit == "g" else 0.1
+    mag = abs(value)
+    if mag >= 100:
+        return 10 ** (math.floor(math.log10(mag)) - 1)
+    return 1.0
+
+
+def cost_step(r):
+    """(step text, kg) for one step of a requirement's value in the harder direction."""
+    if r.sensitivity is None or not math.isfinite(r.sensitivity):
+        return None
+    unit = r.sensitivity_unit.replace("kg per ", "")
+    try:
+        val = float(r.value_text.split()[0]) if r.value_text else 1.0
+    except ValueError:
+        val = 1.0
+    step = step_for(unit, val)
+    dm = r.sensitivity * step
+    if dm < 0:
+        step, dm = -step, -dm
+    sign = "+" if step > 0 else "-"
+    unit_txt = f" {unit}" if unit != "unit" else ""
+    return f"{sign}{abs(step):g}{unit_txt}", dm
+
+
+def cost_line(r) -> str:
+    """'+1 g on turn-4g: +820.1 kg' from a requirement's sensitivity."""
+    c = cost_step(r)
+    if c is None:
+        return f"{r.id}: cost not available"
+    return f"{c[0]} on {r.id}: +{c[1]:,.1f} kg"
+
+
+def summary(result, path: str = "") -> str:
+    """The readable terminal summary of a result."""
+    lines = [result.title, "=" * len(result.title)]
+    if path:
+        lines.append(f"file: {path}")
+    if result.status != "optimal":
+        lines.append("")
+        lines.append("NO FEASIBLE DESIGN: no aircraft meets every requirement and closes its weight.")
+        inf = result.infeasibility
+        if inf is not None:
+            if inf.explanation:
+                lines.append(f"  {inf.explanation}")
+            if inf.conflicts:
+                lines.append("  conflicting requirements, and the smallest change of each that alone "
+                             "restores feasibility:")
+                for rid in inf.conflicts:
+                    rel = inf.relaxations[rid]
+                    lines.append(f"    {rid}: {rel['field']} -> {rel['text']}")
+        lines += ["", CAUTION]
+        return "\n".join(lines)
+    d = result.design
+    W = d.wing_loading
+    lines += ["", "Design point"]
+    lines.append(f"  wing loading       {W:,.0f} N/m^2  ({W / g0:,.1f} kg/m^2, {W / LBF_FT2:,.2f} lb/ft^2)")
+    if result.propeller:
+        P = d.power_to_weight
+        lines.append(f"  power-to-weight    {P:,.2f} W/N  ({P * g0 / 1000:,.4f} kW/kg, "
+                     f"{P * 4.4482216152605 / HP:,.4f} hp/lb)")
+        lines.append(f"  sea-level power    {d.power / 1000:,.1f} kW  ({d.power / HP:,.0f} hp)")
+    else:
+        lines.append(f"  thrust-to-weight   {d.thrust_to_weight:,.4f}")
+        lines.append(f"  sea-level thrust   {d.thrust / 1000:,.2f} kN  ({d.thrust / 4.4482216152605:,.0f} lbf)")
+    lines.append(f"  takeoff mass       {d.takeoff_mass:,.0f} kg  ({d.takeoff_mass / LB:,.0f} lb)")
+    lines.append(f"  wing area          {d.wing_area:,.2f} m^2  ({d.wing_area / 0.09290304:,.1f} ft^2)")
+    lines.append(f"  empty mass         {d.empty_mass:,.0f} kg  ({d.empty_mass / d.takeoff_mass:.3f} of takeoff)")
+    lines.append(f"  fuel mass          {d.fuel_mass:,.0f} kg  ({d.fuel_mass / d.takeoff_mass:.3f} of takeoff)")
+    lines.append(f"  crew + payload     {d.crew_mass + d.payload_mass:,.0f} kg")
+    if result.on_edge:
+        lines.append(f"  NOTE: the optimum lies on the edge of the search region ({', '.join(result.on_edge)})")
+    if result.fuel_breakdown:
+        lines += ["", "Mission fuel by segment"]
+        for name, f, mf in result.fuel_breakdown:
+            lines.append(f"  {name:<28} W1/W0 {f:.4f}   {mf:,.0f} kg")
+    lines += ["", "Drivers (active requirements) and what each costs"]
+    active = [r for r in result.requirements if r.active]
+    if not active:
+        lines.append("  none: the design sits where the weight model alone puts it")
+    for r in active:
+        lines.append(f"  {r.id:<18} {r.kind:<20} {cost_line(r)}")
+    if "mission fuel" in result.drivers:
+        lines.append("  mission fuel       (the cruise L/D trade sets the wing loading)")
+    lines += ["", "Margins"]
+    for r in result.requirements:
+        tag = "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %"
+        beta = f"   [weight fraction {r.beta:.3f}, {r.beta_source}]"
+        lines.append(f"  {r.id:<18} {tag:>10}   {r.detail}{beta}")
+    st = result.stats
+    lines += ["", f"solver: {st.get('return_status')}, {st.get('iterations')} iterations, "
+                  f"{st.get('solve_time_s', 0) * 1000:.0f} ms", "", CAUTION]
+    return "\n".join(lines)
+
+
+def as_dict(result) -> dict:
+    """The DESIGN §6 JSON object."""
+    out = {"title": result.title, "status": result.status, "design": None, "drivers": list(result.drivers),
+           "requirements": [], "infeasibility": None, "caution": CAUTION}
+    d = result.design
+    if d is not None:
+        des = {"wing_loading_Pa": d.wing_loading}
+        if result.propeller:
+            des["power_to_weight_W_per_N"] = d.power_to_weight
+        else:
+            des["thrust_to_weight"] = d.thrust_to_weight
+        des.update({"takeoff_mass_kg": d.takeoff_mass, "wing_area_m2": d.wing_area,
+                    "empty_mass_kg": d.empty_mass, "fuel_mass_kg": d.fuel_mass})
+        if result.propeller:
+            des["power_W"] = d.power
+        else:
+            des["thrust_N"] = d.thrust
+        out["design"] = des
+        out["requirements"] = [{
+            "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
+            "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
+        } for r in result.requirements]
+    if result.infeasibility is not None:
+        inf = result.infeasibility
+        out["infeasibility"] = {"conflicts": list(inf.conflicts),
+                                "relaxations": {k: v["value"] for k, v in inf.relaxations.items()},
+                                "relaxation_units": {k: v["unit"] for k, v in inf.relaxations.items()},
+                                "explanation": inf.explanation}
+    return out
+
+
+def _finite(o):
+    if isinstance(o, float):
+        return o if math.isfinite(o) else None
+    if isinstance(o, dict):
+        return {k: _finite(v) for k, v in o.items()}
+    if isinstance(o, (list, tuple)):
+        return [_finite(v) for v in o]
+    return o
+
+
+def to_json(result) -> str:
+    return json.dumps(_finite(as_dict(result)), indent=2, allow_nan=False)
