@@ -760,14 +760,21 @@ def _model_for(path, data):
     """The pydantic model class that validates the mapping at ``path`` (best effort)."""
     model = RequirementFile
     node = data
+    pending = None
     for item in path:
         if isinstance(item, int):
-            node = node[item]
+            node = node[item] if isinstance(node, list) and 0 <= item < len(node) else None
+            if pending is not None:
+                model = _pick_model(pending, node)
+                pending = None
             continue
-        field = model.model_fields.get(item) if hasattr(model, "model_fields") else None
+        field = model.model_fields.get(item) if model is not None else None
         if field is None:
             return None
         node = node.get(item) if isinstance(node, dict) else None
+        if isinstance(node, list):
+            pending = field.annotation
+            continue
         model = _pick_model(field.annotation, node)
         if model is None:
             return None
