@@ -85,10 +85,22 @@ def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
         harder = harder.get(r["kind"], +1)
     v0 = float(r[field])
 
+    ac = M.aircraft(tree)
+
+    def beyond_limit(rr):
+        """A speed above the speed limit or the polar's Mach table is not flown."""
+        if field not in ("mach", "speed") or r["kind"] == "stall-speed":
+            return False
+        air = C.condition(M.requirement(rr, ac, beta))
+        V = C.fixed_speed(M.requirement(rr, ac, beta), air)
+        return float(V) > float(C.max_free_speed(ac, air)) * (1 + 1e-9)
+
     def g(v):
         rr = dict(r)
         rr[field] = v
         try:
+            if beyond_limit(rr):
+                return -1.0
             return margin_at(rr, tree, W_S, Y, beta)
         except ValueError:
             return -1.0
@@ -146,4 +158,11 @@ def describe_margin(r: dict, tree: dict, spec, W_S, Y, beta) -> str:
     req_text = fmt(float(r[field]), unit, scale)
     if cap is None:
         return f"{req_text} {need}"
-    return f"{have} {fmt(cap, unit, scale)} vs {req_text} {need}"
+    note = ""
+    if field in ("mach", "speed") and r["kind"] != "stall-speed":
+        ac = M.aircraft(tree)
+        req = M.requirement(dict(r, **{field: cap}), ac, beta)
+        air = C.condition(req)
+        if float(C.fixed_speed(req, air)) >= 0.999 * float(C.max_free_speed(ac, air)):
+            note = " (at the speed limit)"
+    return f"{have} {fmt(cap, unit, scale)}{note} vs {req_text} {need}"

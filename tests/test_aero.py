@@ -1,0 +1,68 @@
+"""Drag polar checks against textbook closed forms and worked examples."""
+import casadi as ca
+import numpy as np
+import pytest
+
+from sizing.aero import (DragPolar, MachTable, induced_drag_factor, max_lift_to_drag, minimum_drag_speed,
+                         oswald_efficiency_straight_wing, stall_speed)
+
+
+def test_max_lift_to_drag_anderson_examples():
+    # Source: Anderson, Introduction to Flight, Ch. 6 running examples (REFERENCES.md CC5):
+    # piston A 7.3657, CD0 0.025, e 0.8 -> 13.606 (book 13.6); jet A 8.9336, CD0 0.02, e 0.81 -> 16.857.
+    assert float(max_lift_to_drag(0.025, induced_drag_factor(7.3657, 0.8))) == pytest.approx(13.6059, rel=1e-4)
+    assert float(max_lift_to_drag(0.02, induced_drag_factor(8.9336, 0.81))) == pytest.approx(16.8572, rel=1e-4)
+
+
+def test_max_lift_to_drag_is_the_polar_maximum():
+    # Source: Anderson, Aircraft Performance and Design, §5.4: (L/D)max = 1/(2 sqrt(CD0 k)) at
+    # CL* = sqrt(CD0/k); checked here against a dense scan of the polar.
+    polar = DragPolar(cd0=0.025, k1=induced_drag_factor(8, 0.8))
+    CL = np.linspace(0.05, 2.0, 200001)
+    LD = CL / polar.CD(CL, 0.3)
+    assert LD.max() == pytest.approx(14.1796, rel=1e-5)    # REFERENCES.md §8 value
+    assert CL[np.argmax(LD)] == pytest.approx(np.sqrt(0.025 / induced_drag_factor(8, 0.8)), rel=1e-4)
+
+
+def test_minimum_drag_speed():
+    # Source: REFERENCES.md §8: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500 -> V_md 58.7727 m/s,
+    # V_min-power = V_md / 3^(1/4) = 44.6576 m/s.
+    k = induced_drag_factor(8, 0.8)
+    V = float(minimum_drag_speed(1500.0, 1.225, 0.025, k))
+    assert V == pytest.approx(58.7727, rel=1e-5)
+    assert V / 3 ** 0.25 == pytest.approx(44.6576, rel=1e-5)
+
+
+def test_stall_speed_61_knots():
+    # Source: 14 CFR 23.49(c) 61 kt with the lift equation (REFERENCES.md CC4): sea level,
+    # CLmax 2.0 -> W/S 1 206.35 N/m^2 ; the inverse gives 61.000 kt.
+    V = float(stall_speed(1206.35, 1.225, 2.0))
+    assert V / (1852 / 3600) == pytest.approx(61.0, abs=1e-3)
+
+
+def test_oswald_estimate():
+    # Source: Raymer Eq. 12.48, values computed in REFERENCES.md §4.4
+    for A, e in [(4, 0.934395), (6, 0.869121), (8, 0.810592), (10, 0.756617), (15, 0.634903)]:
+        assert oswald_efficiency_straight_wing(A) == pytest.approx(e, abs=1e-6)
+
+
+def test_mach_table_interpolates_linearly_on_all_backends():
+    # common practice, no source: piecewise-linear (monotone) interpolation, held flat outside
+    t = MachTable((0.0, 0.8, 0.95), (0.020, 0.021, 0.030))
+    assert float(t(0.4)) == pytest.approx(0.0205)
+    assert float(t(0.875)) == pytest.approx(0.0255)
+    assert float(t(1.2)) == pytest.approx(0.030)
+    M = np.linspace(0, 1, 11)
+    np.testing.assert_allclose(t(M), np.interp(M, [0, 0.8, 0.95], [0.020, 0.021, 0.030]), rtol=1e-12)
+    x = ca.SX.sym("M")
+    f = ca.Function("t", [x], [t(x)])
+    for v in M:
+        assert float(f(v)) == pytest.approx(float(np.interp(v, [0, 0.8, 0.95], [0.020, 0.021, 0.030])), rel=1e-12)
+
+
+def test_polar_with_configuration_increment():
+    # common practice, no source: CD = CD0 + dCD0(config) + k1 CL^2 + k2 CL
+    polar = DragPolar(cd0=0.02, k1=0.05, k2=-0.01, cl_max={"clean": 1.2, "takeoff": 1.6},
+                      drag_increment={"takeoff": 0.015})
+    assert float(polar.CD(0.5, 0.2, "takeoff")) == pytest.approx(0.02 + 0.015 + 0.05 * 0.25 - 0.005)
+    assert polar.CLmax("takeoff") == 1.6
