@@ -1,0 +1,101 @@
+"""An independent brute-force sizer written for the tests (the spreadsheet way).
+
+Plain numpy: a fine grid of wing loadings, T/W (or P/W) taken as the maximum of
+the required curves, free speeds by a dense scan from stall to the speed limit,
+the weight closure evaluated pointwise by fixed-point iteration. It shares the
+physics (constraint functions, weight models) with the solver, not the
+optimization.  # common practice, no source
+"""
+import numpy as np
+
+from sizing import constraints as C
+from sizing import model as M
+from sizing import weights as Wt
+
+
+def _betas(tree, ac, W):
+    seg = {}
+    if "mission" in tree and "fraction" not in tree["aircraft"]["weights"].get("fuel", {}):
+        for name, _f, be in Wt.mission_fractions(tree, ac, W):
+            seg[name] = np.asarray(be) + 0 * W
+    return seg
+
+
+def curves(tree, W, n_speed=400):
+    """Required Y per requirement (inf where infeasible) and W/S limits, on grid W."""
+    ac = M.aircraft(tree)
+    seg = _betas(tree, ac, W)
+    need, lims = {}, {}
+    for rid, r in tree["requirements"].items():
+        wf = r.get("weight_fraction")
+        beta = seg[wf["after"]] if isinstance(wf, dict) else None
+        req = M.requirement(r, ac, beta)
+        kind = C.KINDS[r["kind"]]
+        if kind.has_free_speed(req):
+            air = C.condition(req)
+            CLmax = ac.polar.CLmax(C.config_of(req))
+            V_lo = np.sqrt(2 * req.beta * W / (air.density * CLmax))
+            V_hi = float(C.max_free_speed(ac, air))
+            u = np.linspace(0, 1, n_speed)
+            V = V_lo[:, None] + u[None, :] * np.maximum(V_hi - V_lo, 0)[:, None]
+            reqb = M.requirement(r, ac, beta[:, None] if beta is not None else None)
+            with np.errstate(all="ignore"):
+                T = np.asarray(kind.function(W[:, None], V, reqb, ac).thrust, float)
+            T = np.where(np.isfinite(T) & (T > 0), T, np.inf)
+            best = T.min(axis=1)
+            best = np.where(V_hi >= V_lo, best, np.inf)
+            need[rid] = best
+        else:
+            with np.errstate(all="ignore"):
+                b = kind.function(W, None, req, ac)
+            if b.thrust is not None:
+                need[rid] = np.broadcast_to(np.asarray(b.thrust, float), W.shape)
+            if b.wing_loading is not None:
+                lims[rid] = np.broadcast_to(np.asarray(b.wing_loading, float), W.shape)
+    return need, lims
+
+
+def closure(tree, W, Y, propeller):
+    ac = M.aircraft(tree)
+    w = tree["aircraft"]["weights"]
+    fixed = w.get("crew", 0.0) + w.get("payload", 0.0)
+    with np.errstate(all="ignore"):
+        f_fuel = np.asarray(Wt.fuel_fraction(tree, ac, W)) + 0 * W
+        m = np.full_like(W, 3 * fixed)
+        for _ in range(200):
+            f_e = np.asarray(Wt.empty_fraction(w, tree["aircraft"], m, W, Y, propeller)) + 0 * W
+            den = 1 - f_fuel - f_e
+            m_new = np.where(den > 0.01, fixed / den, np.inf)
+            if np.allclose(m_new, m, rtol=1e-13, equal_nan=True):
+                break
+            m = np.where(np.isfinite(m_new), m_new, 3 * fixed)
+        return np.where(den > 0.01, m_new, np.inf)
+
+
+def best(tree, W_bounds, Y_bounds, propeller, n=3000, n_speed=300):
+    """Lightest grid point; refined once around the best coarse cell."""
+    def scan(W):
+        need, lims = curves(tree, W, n_speed)
+        Y = np.zeros_like(W)
+        for v in need.values():
+            Y = np.maximum(Y, v)
+        Y = np.maximum(Y, Y_bounds[0])
+        ok = (Y <= Y_bounds[1]) & np.isfinite(Y)
+        for v in lims.values():
+            ok &= W <= v
+        m = closure(tree, W, np.where(ok, Y, 0.0), propeller)
+        m = np.where(ok, m, np.inf)
+        return m, Y, need, lims
+
+    W = np.geomspace(W_bounds[0], W_bounds[1], n)
+    m, Y, need, lims = scan(W)
+    if not np.any(np.isfinite(m)):
+        return None
+    i = int(np.argmin(m))
+    lo, hi = W[max(i - 2, 0)], W[min(i + 2, n - 1)]
+    W2 = np.linspace(lo, hi, n)
+    m2, Y2, need2, lims2 = scan(W2)
+    j = int(np.argmin(m2))
+    step = (hi - lo) / (n - 1)
+    return {"W": W2[j], "Y": Y2[j], "m": m2[j], "step": step,
+            "need": {k: v[j] for k, v in need2.items()}, "lims": {k: v[j] for k, v in lims2.items()}}
