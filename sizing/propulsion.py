@@ -43,7 +43,7 @@ def inlet_conditions(theta, delta, M):
     30 kft, theta 0.7940, delta 0.2975 -> theta0 1.1513, delta0 1.0921.
 
     >>> t0, d0 = inlet_conditions(0.7940, 0.2975, 1.5)
-    >>> round(t0, 4), round(d0, 4)
+    >>> round(float(t0), 4), round(float(d0), 4)
     (1.1513, 1.0921)
     """
     ram = 1.0 + 0.5 * (GAMMA - 1.0) * M ** 2

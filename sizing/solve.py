@@ -48,8 +48,8 @@ class _Row:
 class Problem:
     """A built sizing problem for one requirement-file structure.
 
-    >>> # doctest: +SKIP
-    >>> prob = Problem(spec); result = prob.solve()
+    Build once with ``Problem(spec)``; then ``solve(p)`` for any parameter
+    vector ``p`` of the same structure (``parameters(spec)``).
     """
 
     def __init__(self, spec):

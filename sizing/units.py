@@ -8,7 +8,9 @@ that says which units fit.
 """
 from __future__ import annotations
 
+import difflib
 import math
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -79,49 +81,122 @@ class Quantity:
         return self.si
 
 
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+# unit names a requirement file usually uses, for "did you mean" hints
+COMMON_UNITS = ("m", "km", "ft", "nmi", "mi", "in", "cm", "kn", "kt", "m/s", "km/h", "ft/s", "ft/min",
+                "mph", "kg", "lb", "t", "g", "mg", "s", "min", "h", "K", "delta_degC", "delta_degF",
+                "N", "kN", "lbf", "Pa", "kPa", "W", "kW", "hp", "J", "kg/m^2", "lb/ft^2", "lbf/ft^2",
+                "kg/N", "kg/kW", "lb/hp", "1/h", "1/s", "lb/(lbf*h)", "mg/(N*s)", "lb/(hp*h)", "W/N",
+                "meter", "foot", "knot", "kilogram", "pound", "second", "minute", "hour", "kelvin",
+                "newton", "pascal", "watt", "kilowatt", "horsepower")
+
+
 def parse(value, dimension: str) -> Quantity:
     """Parse ``"<number> <unit>"`` into SI for a field of a given dimension.
+
+    The number comes first and the unit after it (``"35000 ft"``,
+    ``"0.9 1/h"``); a unit alone, a bare number, an unknown unit or a unit of
+    another kind is a :class:`UnitError` whose message lists units that fit.
+    For a temperature difference, ``degC`` and ``degF`` are read as
+    differences (``"15 degC"`` is 15 K).
 
     Examples
     --------
     Source: REFERENCES.md §9 exact conversions (1 ft = 0.3048 m).
 
-    >>> parse("1000 ft", "length").si
+    >>> round(parse("1000 ft", "length").si, 9)
     304.8
     >>> parse("95 kn", "speed").unit
     'kn'
     """
     dim = DIMENSIONS[dimension]
-    if isinstance(value, bool) or isinstance(value, (int, float)):
+    if isinstance(value, bool):
+        raise UnitError(f"{value!r} is not a {dim.name}; write a number with a unit, e.g. {dim.examples}")
+    if isinstance(value, (int, float)):
         if dimension == "temperature_difference" and value == 0:
             return Quantity(0.0, str(value), "K", 1.0)
         raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
     if not isinstance(value, str):
-        raise UnitError(f"expected a {dim.name} written as a string with a unit, e.g. {dim.examples}")
+        raise UnitError(f"expected a {dim.name} written as a number with a unit, e.g. {dim.examples}, "
+                        f"got {_kind_of(value)}")
     text = value.strip()
+    match = _NUMBER.match(text)
+    if match is None:
+        raise UnitError(f"{value!r} does not start with a number; a {dim.name} is written as a number "
+                        f"and a unit, e.g. {dim.examples}")
+    number, unit_text = match.group(1), match.group(2)
+    # integers stay integers, as pint itself would read them (exact products)
+    mag_user = int(number) if number.lstrip("+-").isdigit() else float(number)
+    if not math.isfinite(mag_user):
+        raise UnitError(f"{value!r} is not a finite number")
+    if not unit_text:
+        raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
     ureg = registry()
     try:
-        q = ureg.Quantity(text)
-    except Exception as e:  # pint raises several unrelated types
-        raise UnitError(f"cannot read {value!r} as a {dim.name}: {e}; write it like {dim.examples}") from None
-    if not hasattr(q, "units") or q.dimensionless:
-        raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
-    base = q.to_base_units()
-    got = str(base.dimensionality)
+        u = ureg.parse_units(unit_text)
+    except Exception as e:  # noqa: BLE001 - pint raises several unrelated types
+        names = [n for n in getattr(e, "unit_names", ()) or () if isinstance(n, str)]
+        if names:
+            near = difflib.get_close_matches(names[0], COMMON_UNITS, 1, 0.6)
+            hint = f" (did you mean {near[0]!r}?)" if near else ""
+            raise UnitError(f"unknown unit {names[0]!r} in {value!r}{hint}; a {dim.name} is written "
+                            f"like {dim.examples}") from None
+        raise UnitError(f"cannot read the unit {unit_text!r} of {value!r}; a {dim.name} is written "
+                        f"like {dim.examples}") from None
+    if dimension == "temperature_difference":
+        u = _as_difference(ureg, u)
+    try:
+        q = ureg.Quantity(mag_user, u)
+        base = q.to_base_units()
+        one = float(ureg.Quantity(1.0, u).to_base_units().magnitude)
+    except Exception as e:  # noqa: BLE001 - offset units in products and the like
+        raise UnitError(f"cannot use the unit {unit_text!r} of {value!r} here ({e}); write it like "
+                        f"{dim.examples}") from None
+    if base.dimensionless:
+        raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
     for dims, factor in dim.accepts:
         if base.dimensionality == ureg.get_dimensionality(dims):
             mag = float(base.magnitude) * factor
             if not math.isfinite(mag):
                 raise UnitError(f"{value!r} is not a finite number")
-            one = float(ureg.Quantity(1.0, q.units).to_base_units().magnitude) * factor
-            return Quantity(mag, text, _unit_text(text), one)
-    raise UnitError(f"{value!r} is a {got}, not a {dim.name}; write it like {dim.examples}")
+            return Quantity(mag, text, unit_text, one * factor)
+    raise UnitError(f"{value!r} is {_dimension_words(base.dimensionality)}, not a {dim.name}; "
+                    f"write it like {dim.examples}")
 
 
-def _unit_text(text: str) -> str:
-    """The unit part of '<number> <unit>' as the user wrote it."""
-    parts = text.split(None, 1)
-    return parts[1].strip() if len(parts) == 2 else text
+def _as_difference(ureg, u):
+    """degC/degF (offset units) -> their differences; other units unchanged."""
+    mapping = {"degree_Celsius": "delta_degree_Celsius", "degree_Fahrenheit": "delta_degree_Fahrenheit"}
+    name = str(u)
+    if name in mapping:
+        return ureg.parse_units(mapping[name])
+    return u
+
+
+_WORDS = {"[length]": "length", "[mass]": "mass", "[time]": "time", "[temperature]": "temperature",
+          "[length] / [time]": "speed", "[mass] / [length] / [time] ** 2": "pressure",
+          "[mass] * [length] / [time] ** 2": "force", "[mass] / [length] ** 2": "mass per area",
+          "[length] ** 2": "area", "[length] ** 3": "volume", "[mass] * [length] ** 2 / [time] ** 3": "power",
+          "1 / [time]": "frequency (1/time)", "[length] / [time] ** 2": "acceleration"}
+
+
+def _dimension_words(dimensionality) -> str:
+    text = str(dimensionality)
+    word = _WORDS.get(text)
+    if word is None:
+        return f"of dimension {text}"
+    return f"{'an' if word[0] in 'aeiou' else 'a'} {word} ({text})"
+
+
+def _kind_of(value) -> str:
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    if value is None:
+        return "nothing (an empty value)"
+    return type(value).__name__
 
 
 def parse_fraction(value) -> float:
@@ -131,18 +206,19 @@ def parse_fraction(value) -> float:
     0.06
     """
     if isinstance(value, bool):
-        raise UnitError(f"{value!r} is not a number")
+        raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage such as '6 %'")
+    out = None
     if isinstance(value, (int, float)):
-        return float(value)
-    if isinstance(value, str):
+        out = float(value)
+    elif isinstance(value, str):
         text = value.strip()
-        if text.endswith("%"):
-            try:
-                return float(text[:-1].strip()) / 100.0
-            except ValueError:
-                pass
         try:
-            return float(text)
+            out = float(text[:-1].strip()) / 100.0 if text.endswith("%") else float(text)
         except ValueError:
-            pass
-    raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage such as '6 %'")
+            out = None
+    if out is None:
+        raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage "
+                        f"such as '6 %'")
+    if not math.isfinite(out):
+        raise UnitError(f"{value!r} is not a finite number")
+    return out
