@@ -83,6 +83,48 @@ def if_else(cond, a, b):
     return np.where(cond, a, b)
 
 
+def monotone_cubic(x, xs, ys):
+    """Monotone piecewise-cubic Hermite interpolation (PCHIP), held flat outside.
+
+    The knot slopes are Fritsch and Carlson's (as computed by
+    ``scipy.interpolate.PchipInterpolator``), so a monotone table stays
+    monotone and the curve is continuously differentiable, which keeps IPOPT
+    happy when Mach is a free variable crossing a breakpoint. Evaluated as a
+    telescoping sum of Hermite cubics in clipped local coordinates, so it is
+    branch-free and works on floats, arrays and CasADi symbols. The table
+    (``xs``, ``ys``) must be numeric.
+
+    References
+    ----------
+    Fritsch, F. N., Carlson, R. E., "Monotone piecewise cubic interpolation",
+    SIAM J. Numer. Anal. 17(2), 1980.
+
+    Examples
+    --------
+    Hand calculation: a straight-line table is reproduced exactly.
+
+    >>> round(float(monotone_cubic(0.25, [0.0, 0.5, 1.0], [1.0, 2.0, 3.0])), 12)
+    1.5
+    """
+    xs = np.asarray(xs, dtype=float)
+    ys = np.asarray(ys, dtype=float)
+    if xs.size == 1:
+        return ys[0] + 0.0 * x
+    from scipy.interpolate import PchipInterpolator
+
+    d = PchipInterpolator(xs, ys).derivative()(xs)
+    y = float(ys[0]) + 0.0 * x
+    for i in range(xs.size - 1):
+        h = float(xs[i + 1] - xs[i])
+        t = clip((x - float(xs[i])) / h, 0.0, 1.0)
+        t2, t3 = t * t, t * t * t
+        h10 = t3 - 2.0 * t2 + t
+        h01 = -2.0 * t3 + 3.0 * t2
+        h11 = t3 - t2
+        y = y + (float(ys[i + 1]) - float(ys[i])) * h01 + h * (float(d[i]) * h10 + float(d[i + 1]) * h11)
+    return y
+
+
 def piecewise_linear(x, xs, ys):
     """Piecewise-linear interpolation through (xs, ys), held flat outside.
 

@@ -1,9 +1,11 @@
 """Drag polar and lift limits.
 
 CD = CD0(M) + k1(M) CL^2 + k2 CL, with CD0 and k1 each a constant or a
-piecewise-linear table over Mach (monotone between breakpoints, held flat
-outside; requirement checks refuse Mach numbers above the table). CLmax per
-configuration (clean, takeoff, landing).
+table over Mach, interpolated monotone piecewise-cubic (PCHIP: monotone
+between breakpoints and continuously differentiable, so an optimizer can
+move a free Mach across a breakpoint; held flat outside, and requirement
+checks refuse Mach numbers above the table). CLmax per configuration
+(clean, takeoff, landing).
 
 All functions are pure SI and evaluate on floats, arrays and CasADi symbols.
 
@@ -24,13 +26,13 @@ from . import _math as m
 
 @dataclass(frozen=True)
 class MachTable:
-    """A coefficient tabulated over Mach number (strictly increasing Mach)."""
+    """A coefficient tabulated over Mach number (strictly increasing Mach, numeric values)."""
 
     mach: tuple
     values: tuple
 
     def __call__(self, M):
-        return m.piecewise_linear(M, self.mach, self.values)
+        return m.monotone_cubic(M, self.mach, self.values)
 
     @property
     def mach_max(self) -> float:

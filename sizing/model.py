@@ -4,8 +4,9 @@ The SI tree (see :meth:`sizing.spec.Spec.tree`) keeps the YAML's key names,
 with requirements keyed by id. Its numeric leaves are the *parameters* of
 the sizing problem: :func:`flatten` lists them by path, :func:`substitute`
 rebuilds the tree with other values (CasADi symbols for the solver, new
-numbers for a trade study). Strings, booleans, the Mach breakpoints of
-tables and the design-space box are structure, not parameters.
+numbers for a trade study). Strings, booleans, Mach tables (breakpoints
+and values: their monotone interpolant is built from numbers) and the
+design-space box are structure, not parameters.
 """
 from __future__ import annotations
 
@@ -38,8 +39,8 @@ def flatten(tree, path=()):
         for k, v in tree.items():
             if not path and k in _STRUCTURAL_KEYS:
                 continue
-            if _is_table(tree) and k == "mach":
-                continue
+            if _is_table(v):
+                continue   # Mach tables are structure (their interpolant is built from numbers)
             out.extend(flatten(v, path + (k,)))
     elif isinstance(tree, list):
         for i, v in enumerate(tree):
