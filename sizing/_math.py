@@ -83,11 +83,46 @@ def if_else(cond, a, b):
     return np.where(cond, a, b)
 
 
-def monotone_cubic(x, xs, ys):
+def pchip_slopes(xs, ys):
+    """Knot slopes of the Fritsch-Carlson monotone cubic (as SciPy's PCHIP).
+
+    Interior: weighted harmonic mean of the neighbouring secants, zero where
+    they change sign; ends: the shape-preserving three-point formula. The
+    tests compare with ``scipy.interpolate.PchipInterpolator``; written out
+    here so a cold ``sizing solve`` does not import SciPy.
+    """
+    xs = np.asarray(xs, dtype=float)
+    ys = np.asarray(ys, dtype=float)
+    h = np.diff(xs)
+    delta = np.diff(ys) / h
+    n = xs.size
+    d = np.zeros(n)
+    if n == 2:
+        d[:] = delta[0]
+        return d
+    for k in range(1, n - 1):
+        if delta[k - 1] * delta[k] > 0:
+            w1 = 2 * h[k] + h[k - 1]
+            w2 = h[k] + 2 * h[k - 1]
+            d[k] = (w1 + w2) / (w1 / delta[k - 1] + w2 / delta[k])
+
+    def end(h0, h1, m0, m1):
+        s = ((2 * h0 + h1) * m0 - h0 * m1) / (h0 + h1)
+        if np.sign(s) != np.sign(m0):
+            return 0.0
+        if np.sign(m0) != np.sign(m1) and abs(s) > abs(3 * m0):
+            return 3 * m0
+        return s
+
+    d[0] = end(h[0], h[1], delta[0], delta[1])
+    d[-1] = end(h[-1], h[-2], delta[-1], delta[-2])
+    return d
+
+
+def monotone_cubic(x, xs, ys, slopes=None):
     """Monotone piecewise-cubic Hermite interpolation (PCHIP), held flat outside.
 
-    The knot slopes are Fritsch and Carlson's (as computed by
-    ``scipy.interpolate.PchipInterpolator``), so a monotone table stays
+    The knot slopes are Fritsch and Carlson's (:func:`pchip_slopes`), so a monotone table stays
     monotone and the curve is continuously differentiable, which keeps IPOPT
     happy when Mach is a free variable crossing a breakpoint. Evaluated as a
     telescoping sum of Hermite cubics in clipped local coordinates, so it is
@@ -110,9 +145,7 @@ def monotone_cubic(x, xs, ys):
     ys = np.asarray(ys, dtype=float)
     if xs.size == 1:
         return ys[0] + 0.0 * x
-    from scipy.interpolate import PchipInterpolator
-
-    d = PchipInterpolator(xs, ys).derivative()(xs)
+    d = pchip_slopes(xs, ys) if slopes is None else slopes
     y = float(ys[0]) + 0.0 * x
     for i in range(xs.size - 1):
         h = float(xs[i + 1] - xs[i])

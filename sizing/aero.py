@@ -31,8 +31,11 @@ class MachTable:
     mach: tuple
     values: tuple
 
+    def __post_init__(self):
+        object.__setattr__(self, "_slopes", m.pchip_slopes(self.mach, self.values))
+
     def __call__(self, M):
-        return m.monotone_cubic(M, self.mach, self.values)
+        return m.monotone_cubic(M, self.mach, self.values, self._slopes)
 
     @property
     def mach_max(self) -> float:

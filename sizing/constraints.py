@@ -411,7 +411,7 @@ def max_free_speed(ac, air):
     return V
 
 
-def required_curve(req, ac, W_S, samples=240):
+def required_curve(req, ac, W_S, samples=240, refine=40):
     """Numpy curve of a requirement over an array of wing loadings.
 
     Returns (thrust, wing_loading_limit, best_speed): required T_SL/W_TO (or
@@ -444,7 +444,7 @@ def required_curve(req, ac, W_S, samples=240):
     a = V[rows, np.maximum(j - 1, 0)]
     b = V[rows, np.minimum(j + 1, samples - 1)]
     phi = (np.sqrt(5.0) - 1.0) / 2.0
-    for _ in range(40):
+    for _ in range(refine):
         c = b - phi * (b - a)
         d = a + phi * (b - a)
         fc, fd = f(c), f(d)

@@ -62,7 +62,7 @@ def margin_at(r: dict, tree: dict, W_S, Y, beta) -> float:
     ac = M.aircraft(tree)
     req = M.requirement(r, ac, beta)
     with np.errstate(all="ignore"):
-        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]))
+        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=64, refine=30)
     margins = []
     if thrust is not None:
         t = float(thrust[0])
@@ -126,7 +126,7 @@ def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
         return None
     a, b = lo, hi
     ga = g(a)
-    for _ in range(50):
+    for _ in range(34):
         c = 0.5 * (a + b)
         gc = g(c)
         if (gc >= 0) == (ga >= 0):

@@ -74,3 +74,20 @@ def test_polar_with_configuration_increment():
                       drag_increment={"takeoff": 0.015})
     assert float(polar.CD(0.5, 0.2, "takeoff")) == pytest.approx(0.02 + 0.015 + 0.05 * 0.25 - 0.005)
     assert polar.CLmax("takeoff") == 1.6
+
+
+def test_pchip_slopes_match_scipy_on_random_tables():
+    # Source: scipy.interpolate.PchipInterpolator (reference implementation of Fritsch & Carlson
+    # 1980), on increasing, decreasing and non-monotone tables of 2 to 7 points.
+    from scipy.interpolate import PchipInterpolator
+
+    from sizing._math import pchip_slopes
+    rng = np.random.default_rng(3)
+    for _ in range(200):
+        n = int(rng.integers(2, 8))
+        xs = np.cumsum(rng.uniform(0.05, 0.4, n))
+        ys = rng.normal(0.02, 0.005, n)
+        if rng.random() < 0.5:
+            ys = np.sort(ys)
+        np.testing.assert_allclose(pchip_slopes(xs, ys), PchipInterpolator(xs, ys).derivative()(xs),
+                                   rtol=1e-10, atol=1e-14)
