@@ -1,0 +1,77 @@
+"""The installed console script on the example files; the --json object of DESIGN §6.
+
+# common practice, no source (interface checks against the product contract, DESIGN.md §6)
+"""
+import json
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
+SIZING = shutil.which("sizing", path=str(Path(sys.executable).parent)) or "sizing"
+
+
+def run(*args):
+    return subprocess.run([SIZING, *map(str, args)], capture_output=True, text=True, cwd=ROOT, timeout=300)
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
+def test_solve_prints_design_drivers_margins_and_caution(path):
+    r = run("solve", path)
+    assert r.returncode == 0, r.stderr
+    out = r.stdout
+    for text in ("Design point", "wing loading", "N/m^2", "kg/m^2", "lb/ft^2", "takeoff mass", "wing area",
+                 "empty mass", "fuel mass", "Drivers", "Margins", "not for certification"):
+        assert text.lower() in out.lower(), text
+    assert ("kW/kg" in out and "hp/lb" in out) or "thrust-to-weight" in out
+    assert "Traceback" not in r.stderr
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
+def test_json_has_the_design_fields(path):
+    r = run("solve", path, "--json")
+    assert r.returncode == 0, r.stderr
+    obj = json.loads(r.stdout)
+    assert {"title", "status", "design", "drivers", "requirements", "infeasibility"} <= set(obj)
+    assert obj["status"] == "optimal" and obj["infeasibility"] is None
+    d = obj["design"]
+    prop = "power_to_weight_W_per_N" in d
+    need = {"wing_loading_Pa", "takeoff_mass_kg", "wing_area_m2", "empty_mass_kg", "fuel_mass_kg"}
+    need |= {"power_to_weight_W_per_N", "power_W"} if prop else {"thrust_to_weight", "thrust_N"}
+    assert need <= set(d)
+    # weight statement adds up: crew + payload + empty + fuel = takeoff
+    assert d["wing_area_m2"] == pytest.approx(d["takeoff_mass_kg"] * 9.80665 / d["wing_loading_Pa"], rel=1e-9)
+    ids = [q["id"] for q in obj["requirements"]]
+    assert len(ids) == len(set(ids)) and ids
+    for q in obj["requirements"]:
+        assert set(q) == {"id", "kind", "active", "margin", "sensitivity"}
+        assert set(q["sensitivity"]) == {"value", "unit"} and q["sensitivity"]["unit"].startswith("kg per ")
+        assert q["margin"] >= 0
+        assert q["active"] == (q["margin"] == 0)
+    assert set(obj["drivers"]) - {"mission fuel"} == {q["id"] for q in obj["requirements"] if q["active"]}
+
+
+def test_weight_statement_closes():
+    # Source: Raymer Ch. 3 closure, W0 = W_crew + W_payload + W_fuel + W_empty
+    from sizing import load, solve
+    for path in EXAMPLES:
+        res = solve(load(path))
+        d = res.design
+        assert d.crew_mass + d.payload_mass + d.empty_mass + d.fuel_mass == pytest.approx(d.takeoff_mass, rel=1e-8)
+
+
+def test_check_and_module_entry_point():
+    r = run("check", EXAMPLES[0])
+    assert r.returncode == 0 and "valid" in r.stdout
+    r2 = subprocess.run([sys.executable, "-m", "sizing", "solve", str(EXAMPLES[0]), "--json"],
+                        capture_output=True, text=True, cwd=ROOT, timeout=300)
+    assert r2.returncode == 0 and json.loads(r2.stdout)["status"] == "optimal"
+
+
+def test_ipopt_output_never_reaches_the_terminal():
+    r = run("solve", EXAMPLES[-1])
+    assert "Ipopt" not in r.stdout + r.stderr and "EXIT:" not in r.stdout
