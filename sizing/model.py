@@ -211,6 +211,7 @@ class Result:
     infeasibility: Infeasibility | None = None
     on_edge: tuple = ()                   # design-space edges the optimum touches
     fuel_breakdown: tuple = ()            # (segment name, weight fraction, fuel kg)
+    other_costs: tuple = ()               # (what, kg per unit, unit): payload growth, mission legs
     objective: str = "takeoff-mass"
     stats: dict = field(default_factory=dict)
     spec: object = None

@@ -114,6 +114,10 @@ def summary(result, path: str = "") -> str:
         lines.append(f"  {r.id:<18} {r.kind:<20} {cost_line(r)}")
     if "mission fuel" in result.drivers:
         lines.append("  mission fuel       (the cruise L/D trade sets the wing loading)")
+    if result.other_costs:
+        lines += ["", "Other costs"]
+        for what, per, unit in result.other_costs:
+            lines.append(f"  {what:<38} {per:+,.2f} {unit}")
     lines += ["", "Margins"]
     for r in result.requirements:
         tag = "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %"

@@ -347,8 +347,9 @@ class Problem:
         f_fuel, f_empty = float(np.asarray(f_fuel)), float(np.asarray(f_empty))
         if sensitivities:
             dm = self._sensitivities(x, lam_g, p)
+            other = self._other_costs(x, lam_g, p, tree)
         else:
-            dm = {}
+            dm, other = {}, ()
         out = []
         drivers = []
         for rid in self.req_ids:
@@ -409,7 +410,8 @@ class Problem:
                               for (name, f, be), b0 in zip(segs, [1.0] + [s[2] for s in segs[:-1]]))
         return M.Result(title=spec.title, status="optimal", propeller=self.propeller, design=design,
                         requirements=tuple(out), drivers=tuple(drivers), on_edge=tuple(edges),
-                        fuel_breakdown=fuel_rows, objective=self.objective, stats=dict(stats),
+                        fuel_breakdown=fuel_rows, other_costs=other, objective=self.objective,
+                        stats=dict(stats),
                         spec=spec)
 
     def _mission_drives(self, x, p, drivers) -> bool:
@@ -424,6 +426,28 @@ class Problem:
         # interior optimum in W/S with at most one active requirement means the
         # fuel (through cruise L/D) balances the other terms: mission fuel drives
         return len(drivers) <= 1
+
+    def _other_costs(self, x, lam_g, p, tree):
+        """Takeoff-mass cost of payload (the growth factor) and of each mission leg."""
+        if self.objective != "takeoff-mass":
+            return ()
+        dL = np.array(self._dLdp(x, p, lam_g)).ravel() * self.m_ref
+        idx = {path: i for i, path in enumerate(self.paths)}
+        out = []
+        j = idx.get(("aircraft", "weights", "payload"))
+        if j is not None:
+            out.append(("payload (growth factor)", float(dL[j]), "kg per kg"))
+        for i, seg in enumerate((tree.get("mission") or {}).get("segments", [])):
+            name = seg.get("name") or f"{seg['kind']}-{i + 1}"
+            if seg["kind"] == "cruise":
+                j = idx.get(("mission", "segments", i, "range"))
+                if j is not None:
+                    out.append((f"range of {name}", float(dL[j]) * 1000.0, "kg per km"))
+            elif seg["kind"] in ("loiter", "combat", "maneuver"):
+                j = idx.get(("mission", "segments", i, "time"))
+                if j is not None:
+                    out.append((f"time of {name}", float(dL[j]) * 60.0, "kg per min"))
+        return tuple(out)
 
     def _sensitivities(self, x, lam_g, p):
         """d m_TO / d value [kg per SI unit] for each requirement's headline value."""

@@ -192,3 +192,24 @@ def test_units_of_fuel_consumption_for_props():
     C_eng = 0.5 * V_fts / (550 * 0.8)             # 1/h
     english = math.exp(-(R / FT) * (C_eng / 3600) / (V_fts * 12.0))
     assert ours == pytest.approx(english, rel=1e-9)
+
+
+def test_payload_growth_factor_and_range_cost_match_re_solves():
+    # common practice, no source: the multiplier-based costs equal central differences
+    from sizing.solve import Problem
+    spec = load(ROOT / "requirements" / "long-range-jet.yaml")
+    prob = Problem(spec)
+    p0 = prob.parameters(spec)
+    res = prob.solve(p0)
+    costs = {what: per for what, per, _ in res.other_costs}
+    idx = {pp: i for i, pp in enumerate(prob.paths)}
+    for what, path, scale in [("payload (growth factor)", ("aircraft", "weights", "payload"), 1.0),
+                              ("range of outbound cruise", ("mission", "segments", 2, "range"), 1000.0)]:
+        j = idx[path]
+        h = 1e-4 * p0[j]
+        ms = []
+        for s in (1, -1):
+            p = p0.copy()
+            p[j] += s * h
+            ms.append(prob.solve(p, sensitivities=False).design.takeoff_mass)
+        assert costs[what] == pytest.approx((ms[0] - ms[1]) / (2 * h) * scale, rel=1e-2)
