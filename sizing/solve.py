@@ -384,7 +384,7 @@ class Problem:
                 value_text=_value_text(spec_req, field),
                 detail=describe_margin(r, tree, spec, W_S, Y, betas[rid]),
                 speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src))
-        if self._mission_drives(x, p, drivers):
+        if self._mission_drives(x, p, rows, vals):
             drivers.append("mission fuel")
         g = m_TO * g0
         design = M.Design(
@@ -414,18 +414,24 @@ class Problem:
                         stats=dict(stats),
                         spec=spec)
 
-    def _mission_drives(self, x, p, drivers) -> bool:
-        """Mission fuel sets the wing loading when no wing-loading limit is
-        active and the mass still depends on W/S through the fuel fraction."""
+    def _mission_drives(self, x, p, rows, vals) -> bool:
+        """Mission fuel sets the wing loading when fewer than two requirement
+        rows are active (no vertex of the diagram pins W/S), the optimum is
+        inside the W/S range and the fuel fraction changes with W/S."""
         if "mission" not in self.tree0 or "fraction" in self.tree0["aircraft"]["weights"].get("fuel", {}):
             return False
         W_S = x[0] * self.WS_scale
         lo, hi = self.WS_bounds
         if W_S <= lo * (1 + 1e-6) or W_S >= hi * (1 - 1e-6):
             return False
-        # interior optimum in W/S with at most one active requirement means the
-        # fuel (through cruise L/D) balances the other terms: mission fuel drives
-        return len(drivers) <= 1
+        active = sum(1 for (rid, what), v in zip(rows, vals)
+                     if what in ("thrust", "wing_loading") and float(np.asarray(v)) <= ACTIVE_TOL)
+        if active >= 2:
+            return False
+        tree = self.tree_of(p)
+        ac = M.aircraft(tree)
+        f = [float(np.asarray(Wt.fuel_fraction(tree, ac, W_S * s))) for s in (1 - 1e-3, 1 + 1e-3)]
+        return abs(f[1] - f[0]) > 1e-7
 
     def _other_costs(self, x, lam_g, p, tree):
         """Takeoff-mass cost of payload (the growth factor) and of each mission leg."""
