@@ -510,3 +510,14 @@ def solve(spec, sensitivities=True) -> M.Result:
     prob = build(spec)
     res = prob.solve(prob.parameters(spec), sensitivities=sensitivities, spec=spec)
     return res
+
+
+class _CallableModule(__import__("types").ModuleType):
+    """``sizing.solve(spec)`` keeps working after ``import sizing.solve`` (which
+    replaces the package attribute ``sizing.solve`` by this module)."""
+
+    def __call__(self, spec, sensitivities=True):
+        return solve(spec, sensitivities=sensitivities)
+
+
+__import__("sys").modules[__name__].__class__ = _CallableModule
