@@ -13,7 +13,9 @@ success that violates a requirement is never returned as a design.
 from __future__ import annotations
 
 import math
+import sys
 import time
+import types
 from dataclasses import dataclass
 
 import casadi as ca
@@ -512,7 +514,7 @@ def solve(spec, sensitivities=True) -> M.Result:
     return res
 
 
-class _CallableModule(__import__("types").ModuleType):
+class _CallableModule(types.ModuleType):
     """``sizing.solve(spec)`` keeps working after ``import sizing.solve`` (which
     replaces the package attribute ``sizing.solve`` by this module)."""
 
@@ -520,4 +522,4 @@ class _CallableModule(__import__("types").ModuleType):
         return solve(spec, sensitivities=sensitivities)
 
 
-__import__("sys").modules[__name__].__class__ = _CallableModule
+sys.modules[__name__].__class__ = _CallableModule
