@@ -7,19 +7,37 @@ class SizingError(Exception):
 
 
 class InputError(SizingError, ValueError):
-    """Bad input, located: file, line and field path (exit code 2)."""
+    """Bad input, located: file, line and field path (exit code 2).
+
+    ``others`` holds further problems found in the same file (each an
+    :class:`InputError`); :meth:`describe` lists them after the first.
+
+    >>> InputError("mach -0.6 must lie in (0, 5]", "a.yaml", 12, "requirements[1].mach").describe()
+    'a.yaml:12: requirements[1].mach: mach -0.6 must lie in (0, 5]'
+    """
 
     def __init__(self, message: str, file: str | None = None, line: int | None = None,
-                 field: str | None = None):
+                 field: str | None = None, others=()):
         self.message, self.file, self.line, self.field = message, file, line, field
+        self.others = tuple(others)
         super().__init__(self.describe())
 
-    def describe(self) -> str:
+    def where(self) -> str:
+        """'file:line: field: ' prefix (parts that are known)."""
         where = ""
         if self.file:
             where = f"{self.file}:{self.line}: " if self.line else f"{self.file}: "
         field = f"{self.field}: " if self.field else ""
-        return f"{where}{field}{self.message}"
+        return f"{where}{field}"
+
+    def describe(self) -> str:
+        text = f"{self.where()}{self.message}"
+        if self.others:
+            n = len(self.others)
+            text += f"\n  and {n} more problem{'s' if n > 1 else ''}:"
+            for o in self.others:
+                text += f"\n    {o.where()}{o.message}"
+        return text
 
 
 class ModelRangeError(SizingError, ValueError):

@@ -14,6 +14,8 @@ from __future__ import annotations
 
 import difflib
 import hashlib
+import math
+import re
 from pathlib import Path
 from typing import Annotated, Literal, Optional, Union
 
@@ -91,38 +93,112 @@ Fraction = Annotated[float, BeforeValidator(units.parse_fraction),
                      WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": r"%\s*$"}]})]
 
 
+_NUMERIC = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$"
+
+
 def _number(v):
+    if v is None:
+        raise ValueError("no value given; write a number here, or remove the key to use the default")
     if isinstance(v, bool) or not isinstance(v, (int, float)):
         if isinstance(v, str):
             try:
-                return float(v)
+                out = float(v)
             except ValueError:
-                pass
+                out = None
+            if out is not None and math.isfinite(out):
+                return out
+            if out is None and _looks_dimensional(v):
+                raise ValueError(f"{v!r} has a unit, but this value is a plain number (dimensionless); "
+                                 f"write it without the unit")
         raise ValueError(f"{v!r} is not a number (this value is dimensionless)")
+    if not math.isfinite(v):
+        raise ValueError(f"{v!r} is not a finite number")
     return float(v)
 
 
-Number = Annotated[float, BeforeValidator(_number), WithJsonSchema({"type": "number"})]
+def _looks_dimensional(text: str) -> bool:
+    parts = text.split(None, 1)
+    if len(parts) != 2:
+        return False
+    try:
+        float(parts[0])
+    except ValueError:
+        return False
+    return True
+
+
+Number = Annotated[float, BeforeValidator(_number),
+                   WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+def _text(v):
+    """Free text (title, note, names): numbers and dates are read as their text."""
+    if isinstance(v, str):
+        return v
+    if v is None:
+        raise ValueError("no text given")
+    if isinstance(v, (dict, list)):
+        raise ValueError(f"expected text, got a {'mapping' if isinstance(v, dict) else 'list'}")
+    return str(v)
+
+
+Text = Annotated[str, BeforeValidator(_text), WithJsonSchema({"type": ["string", "number"]})]
+
+
+def _identifier(v):
+    if isinstance(v, str):
+        if not v.strip():
+            raise ValueError("id is empty; give each requirement a short unique name such as 'turn-4g'")
+        return v
+    raise ValueError(f"id {v!r} must be text: write a name such as 'turn-4g', or quote it (id: '{v}')")
+
+
+Identifier = Annotated[str, BeforeValidator(_identifier), WithJsonSchema({"type": "string", "minLength": 1})]
 
 
 class Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True, arbitrary_types_allowed=True)
 
 
-def _positive(name, v, hi=None):
+class FieldError(ValueError):
+    """A model-level check that blames one field (path relative to the model)."""
+
+    def __init__(self, field, message: str):
+        self.path = tuple(field) if isinstance(field, (tuple, list)) else (field,)
+        super().__init__(message)
+
+
+def _positive(name, v, hi=None, field=None):
+    """Positive and (optionally) at most ``hi``; raises FieldError on ``field`` (default ``name``)."""
     if v is None:
         return v
     val = v.si if isinstance(v, units.Quantity) else v
+    shown = getattr(v, "text", v)
     if not val > 0:
-        raise ValueError(f"{name} must be positive, got {getattr(v, 'text', v)}")
+        raise FieldError(field or name, f"{name} must be positive, got {shown}")
     if hi is not None and not val <= hi:
-        raise ValueError(f"{name} {getattr(v, 'text', v)} is not plausible (at most {hi})")
+        raise FieldError(field or name, f"{name} {shown} is not plausible (at most {hi:g})")
+    return v
+
+
+def _within(name, v, lo, hi, what="", field=None):
+    """``lo <= v <= hi`` (NaN-safe), else a FieldError naming the range."""
+    if v is None:
+        return v
+    val = v.si if isinstance(v, units.Quantity) else v
+    if not (lo <= val <= hi):
+        shown = getattr(v, "text", v)
+        raise FieldError(field or name, f"{name} {shown} is outside {what or f'{lo:g} to {hi:g}'}")
     return v
 
 
 # --------------------------------------------------------------------------
 # Aircraft
 # --------------------------------------------------------------------------
+# Plausibility bounds below are wide envelopes around published typical
+# values (Raymer Ch. 4-6, Mattingly §2); they catch typing slips such as
+# CLmax 9 or a Mach table in knots, not unusual designs.
+# (common practice, no source, for the exact limits)
 
 
 class _Table(Strict):
@@ -131,36 +207,40 @@ class _Table(Strict):
     @field_validator("mach")
     @classmethod
     def _increasing(cls, v):
-        if any(not (b > a) for a, b in zip(v, v[1:])):
-            raise ValueError(f"Mach table {v} is not strictly increasing")
-        if v[0] < 0:
-            raise ValueError("Mach numbers cannot be negative")
+        bad = next((i for i, (a, b) in enumerate(zip(v, v[1:])) if not (b > a)), None)
+        if bad is not None:
+            raise ValueError(f"Mach table {v} is not strictly increasing (entry {bad + 1}: "
+                             f"{v[bad + 1]:g} after {v[bad]:g})")
+        if not v[0] >= 0:
+            raise ValueError(f"Mach numbers cannot be negative (first entry {v[0]:g})")
+        if not v[-1] <= 5.0:
+            raise ValueError(f"Mach table runs to {v[-1]:g}; the models stop at Mach 5 "
+                             f"(is it a speed in knots?)")
         return v
 
-    def _check_len(self, values, name):
+    def _check(self, values, name, hi):
         if len(values) != len(self.mach):
-            raise ValueError(f"{name} has {len(values)} entries but mach has {len(self.mach)}")
+            raise FieldError(name, f"{name} has {len(values)} entries but mach has {len(self.mach)}; "
+                                   f"give one {name} per Mach number")
+        for i, c in enumerate(values):
+            _positive(f"{name} entry {i + 1}", c, hi, field=(name, i))
 
 
 class CD0Table(_Table):
-    cd0: list[Number]
+    cd0: list[Number] = Field(description="zero-lift drag coefficient at each Mach number")
 
     @model_validator(mode="after")
     def _len(self):
-        self._check_len(self.cd0, "cd0")
-        for c in self.cd0:
-            _positive("cd0", c, 0.5)
+        self._check(self.cd0, "cd0", 0.5)
         return self
 
 
 class K1Table(_Table):
-    k1: list[Number]
+    k1: list[Number] = Field(description="induced-drag factor at each Mach number")
 
     @model_validator(mode="after")
     def _len(self):
-        self._check_len(self.k1, "k1")
-        for c in self.k1:
-            _positive("k1", c, 2.0)
+        self._check(self.k1, "k1", 2.0)
         return self
 
 
@@ -173,7 +253,7 @@ class CLMax(Strict):
     @classmethod
     def _plausible(cls, v):
         if v is not None and not (0.2 <= v <= 4.5):
-            raise ValueError(f"CLmax {v} is outside the plausible range 0.2 to 4.5")
+            raise ValueError(f"CLmax {v:g} is outside the plausible range 0.2 to 4.5")
         return v
 
 
@@ -200,21 +280,22 @@ class Aerodynamics(Strict):
     @field_validator("oswald_efficiency")
     @classmethod
     def _e(cls, v):
-        if v is not None and not (0.2 <= v <= 1.0):
-            raise ValueError(f"oswald_efficiency {v} is outside 0.2 to 1.0")
-        return v
+        return _within("oswald_efficiency", v, 0.2, 1.0)
+
+    @field_validator("k2")
+    @classmethod
+    def _k2(cls, v):
+        return _within("k2", v, -0.5, 0.5)
 
     @field_validator("takeoff_drag_increment", "landing_drag_increment")
     @classmethod
     def _inc(cls, v):
-        if not (0.0 <= v <= 0.3):
-            raise ValueError(f"drag increment {v} is outside 0 to 0.3")
-        return v
+        return _within("drag increment", v, 0.0, 0.3)
 
     @model_validator(mode="after")
     def _k1_source(self):
         if self.k1 is None and self.aspect_ratio is None:
-            raise ValueError("give k1, or aspect_ratio (with optional oswald_efficiency)")
+            raise FieldError("aspect_ratio", "give k1, or aspect_ratio (with optional oswald_efficiency)")
         if isinstance(self.k1, float):
             _positive("k1", self.k1, 2.0)
         return self
@@ -235,16 +316,12 @@ class Propulsion(Strict):
     @field_validator("throttle_ratio")
     @classmethod
     def _tr(cls, v):
-        if not (0.9 <= v <= 1.3):
-            raise ValueError(f"throttle_ratio {v} is outside 0.9 to 1.3 (typical 1.0 to 1.08)")
-        return v
+        return _within("throttle_ratio", v, 0.9, 1.3, "0.9 to 1.3 (typical 1.0 to 1.08)")
 
     @field_validator("propeller_efficiency")
     @classmethod
     def _eta(cls, v):
-        if not (0.2 <= v <= 0.95):
-            raise ValueError(f"propeller_efficiency {v} is outside 0.2 to 0.95")
-        return v
+        return _within("propeller_efficiency", v, 0.2, 0.95)
 
 
 class SpeedLimit(Strict):
@@ -256,7 +333,7 @@ class SpeedLimit(Strict):
         if self.mach is None and self.speed is None:
             raise ValueError("give mach or speed")
         _positive("mach", self.mach, 5.0)
-        _positive("speed", self.speed)
+        _positive("speed", self.speed, 1700.0)
         return self
 
 
@@ -268,10 +345,10 @@ class EmptyComponents(Strict):
 
     @model_validator(mode="after")
     def _ranges(self):
-        _positive("wing", self.wing)
+        _positive("wing", self.wing, 1000.0)
         _positive("propulsion", self.propulsion)
         if not (0.0 <= self.other < 1.0):
-            raise ValueError(f"other {self.other} must be a fraction of takeoff mass in [0, 1)")
+            raise FieldError("other", f"other {self.other:g} must be a fraction of takeoff mass in [0, 1)")
         return self
 
 
@@ -283,7 +360,7 @@ class EmptyFraction(Strict):
     @classmethod
     def _v(cls, v):
         if not (0.0 < v < 1.0):
-            raise ValueError(f"empty fraction {v} must lie between 0 and 1")
+            raise ValueError(f"empty fraction {v:g} must lie between 0 and 1")
         return v
 
 
@@ -303,11 +380,13 @@ class EmptyStatistical(Strict):
         if self.preset is not None and self.preset not in STATISTICAL_PRESETS:
             near = difflib.get_close_matches(self.preset, list(STATISTICAL_PRESETS), 1)
             hint = f" (did you mean {near[0]!r}?)" if near else ""
-            raise ValueError(f"unknown preset {self.preset!r}{hint}; valid: {', '.join(STATISTICAL_PRESETS)}")
+            raise FieldError("preset", f"unknown preset {self.preset!r}{hint}; valid: "
+                                       f"{', '.join(STATISTICAL_PRESETS)}")
         if self.preset is None and (self.a is None or self.c is None):
-            raise ValueError("give a preset, or the coefficients a and c")
+            raise FieldError("a" if self.a is None else "c", "give a preset, or the coefficients a and c")
         if self.exponents is not None and len(self.exponents) != 5:
-            raise ValueError("exponents takes five numbers C1..C5")
+            raise FieldError("exponents", f"exponents takes five numbers C1..C5, got {len(self.exponents)}")
+        _positive("max_mach", self.max_mach, 5.0)
         return self
 
 
@@ -321,7 +400,7 @@ class Fuel(Strict):
     @classmethod
     def _f(cls, v):
         if v is not None and not (0.0 <= v < 1.0):
-            raise ValueError(f"fuel fraction {v} must lie in [0, 1)")
+            raise ValueError(f"fuel fraction {v:g} must lie in [0, 1)")
         return v
 
 
@@ -333,10 +412,12 @@ class Weights(Strict):
 
     @model_validator(mode="after")
     def _fixed(self):
-        if self.crew.si < 0 or self.payload.si < 0:
-            raise ValueError("crew and payload cannot be negative")
-        if self.crew.si + self.payload.si <= 0:
-            raise ValueError("crew plus payload must be positive: it is what the weight closure scales")
+        for name in ("crew", "payload"):
+            if not getattr(self, name).si >= 0:
+                raise FieldError(name, f"{name} cannot be negative, got {getattr(self, name).text}")
+        if not self.crew.si + self.payload.si > 0:
+            raise FieldError("payload", "crew plus payload must be positive: it is what the weight "
+                                        "closure scales")
         return self
 
 
@@ -352,8 +433,27 @@ class Aircraft(Strict):
 # --------------------------------------------------------------------------
 
 
+def _flight_condition(obj, need_speed: bool):
+    """Shared checks of a flight condition: altitude, offset, Mach or speed, load factor."""
+    _within("altitude", obj.altitude, H_MIN, H_MAX,
+            f"the standard atmosphere model ({H_MIN:g} m to {H_MAX:g} m)")
+    _within("temperature_offset", obj.temperature_offset, -80.0, 60.0, "-80 K to +60 K")
+    mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
+    if mach is not None and speed is not None:
+        raise FieldError("speed", "give mach or speed, not both")
+    if need_speed and mach is None and speed is None:
+        raise FieldError("mach", "needs mach or speed (true airspeed)")
+    if mach is not None and not (0.0 < mach <= 5.0):
+        raise FieldError("mach", f"mach {mach:g} must lie in (0, 5]")
+    if speed is not None:
+        _positive("speed", speed, 1700.0)
+    n = getattr(obj, "load_factor", None)
+    if n is not None and not (0.0 < n <= 15.0):
+        raise FieldError("load_factor", f"load_factor {n:g} must lie in (0, 15]")
+
+
 class _Segment(Strict):
-    name: Optional[str] = None
+    name: Optional[Text] = None
 
 
 class FixedSegment(_Segment):
@@ -364,8 +464,9 @@ class FixedSegment(_Segment):
     @classmethod
     def _f(cls, v):
         if not (0.0 < v <= 1.0):
-            raise ValueError(f"segment weight fraction {v} must lie in (0, 1]")
+            raise ValueError(f"segment weight fraction {v:g} must lie in (0, 1]")
         return v
+
 
 
 class CruiseSegment(_Segment):
@@ -377,6 +478,13 @@ class CruiseSegment(_Segment):
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
     tsfc: Optional[FuelConsumption] = None
 
+    @model_validator(mode="after")
+    def _ranges(self):
+        _positive("range", self.range, 4.0e7)
+        _flight_condition(self, need_speed=False)
+        _positive("tsfc", self.tsfc)
+        return self
+
 
 class LoiterSegment(_Segment):
     kind: Literal["loiter"]
@@ -386,6 +494,13 @@ class LoiterSegment(_Segment):
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
     tsfc: Optional[FuelConsumption] = None
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        _positive("time", self.time, 1.0e6)
+        _flight_condition(self, need_speed=False)
+        _positive("tsfc", self.tsfc)
+        return self
 
 
 class CombatSegment(_Segment):
@@ -400,8 +515,9 @@ class CombatSegment(_Segment):
 
     @model_validator(mode="after")
     def _speed(self):
-        if self.mach is None and self.speed is None:
-            raise ValueError("a combat segment needs mach or speed")
+        _positive("time", self.time, 1.0e6)
+        _flight_condition(self, need_speed=True)
+        _positive("tsfc", self.tsfc)
         return self
 
 
@@ -416,20 +532,19 @@ class Mission(Strict):
 
     @model_validator(mode="after")
     def _names(self):
-        names = [s.name for s in self.segments if s.name]
-        dup = {n for n in names if names.count(n) > 1}
-        if dup:
-            raise ValueError(f"duplicate segment names: {', '.join(sorted(dup))}")
+        seen = {}
         for i, s in enumerate(self.segments):
+            if s.name and s.name in seen:
+                raise FieldError(("segments", i, "name"), f"duplicate segment name {s.name!r} (also "
+                                 f"segment {seen[s.name] + 1}); names must be unique")
+            if s.name:
+                seen[s.name] = i
             if s.kind != "fixed" and s.tsfc is None and self.tsfc is None:
-                raise ValueError(f"segment {i} ({s.name or s.kind}) burns fuel but no tsfc is given "
-                                 f"(mission.tsfc or the segment's own)")
-            if s.kind in ("cruise", "loiter", "combat", "maneuver") and s.mach is not None and s.speed is not None:
-                raise ValueError(f"segment {i}: give mach or speed, not both")
-        if not (0.0 <= self.reserve <= 0.5):
-            raise ValueError(f"reserve {self.reserve} is outside 0 to 50 %")
-        if not (0.0 <= self.trapped <= 0.1):
-            raise ValueError(f"trapped {self.trapped} is outside 0 to 10 %")
+                raise FieldError(("segments", i), f"segment {i + 1} ({s.name or s.kind}) burns fuel but "
+                                 f"no tsfc is given (mission.tsfc or the segment's own)")
+        _positive("tsfc", self.tsfc)
+        _within("reserve", self.reserve, 0.0, 0.5, "0 to 50 %")
+        _within("trapped", self.trapped, 0.0, 0.1, "0 to 10 %")
         return self
 
 
@@ -439,46 +554,34 @@ class Mission(Strict):
 
 
 class After(Strict):
-    after: str = Field(description="name of a mission segment: the weight at its end")
+    after: Text = Field(description="name of a mission segment: the weight at its end")
 
 
 class _Req(Strict):
-    id: str = Field(min_length=1)
+    id: Identifier = Field(description="unique name of the requirement, used in every report")
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
     weight_fraction: Optional[Union[Fraction, After]] = None
     thrust_lapse: Optional[Number] = None
     config: Optional[Literal["clean", "takeoff", "landing"]] = None
-    note: Optional[str] = None
+    note: Optional[Text] = None
 
     _needs_speed = False      # fixed-speed kinds
     _speed_optional = False
 
     @model_validator(mode="after")
     def _common(self):
-        h = self.altitude.si
-        if not (H_MIN <= h <= H_MAX):
-            raise ValueError(f"altitude {self.altitude.text} is outside the standard atmosphere "
-                             f"model ({H_MIN:g} m to {H_MAX:g} m)")
-        if not (-80.0 <= self.temperature_offset.si <= 60.0):
-            raise ValueError(f"temperature_offset {self.temperature_offset.text} is outside -80 K to +60 K")
+        _flight_condition(self, self._needs_speed)
         wf = self.weight_fraction
         if isinstance(wf, float) and not (0.0 < wf <= 1.0):
-            raise ValueError(f"weight_fraction {wf} must lie in (0, 1]")
+            raise FieldError("weight_fraction", f"weight_fraction {wf:g} must lie in (0, 1]: it is W/W_TO "
+                                                f"at this condition")
         if self.thrust_lapse is not None and not (0.0 < self.thrust_lapse <= 3.0):
-            raise ValueError(f"thrust_lapse {self.thrust_lapse} must lie in (0, 3]")
-        mach, speed = getattr(self, "mach", None), getattr(self, "speed", None)
-        if mach is not None and speed is not None:
-            raise ValueError("give mach or speed, not both")
-        if self._needs_speed and mach is None and speed is None:
-            raise ValueError("needs mach or speed (true airspeed)")
-        if mach is not None and not (0.0 < mach <= 5.0):
-            raise ValueError(f"mach {mach} must lie in (0, 5]")
-        if speed is not None and not speed.si > 0:
-            raise ValueError(f"speed {speed.text} must be positive")
-        n = getattr(self, "load_factor", None)
-        if n is not None and not (0.0 < n <= 15.0):
-            raise ValueError(f"load_factor {n} must lie in (0, 15]")
+            raise FieldError("thrust_lapse", f"thrust_lapse {self.thrust_lapse:g} must lie in (0, 3]")
+        for name in ("climb_rate", "excess_power"):
+            v = getattr(self, name, None)
+            if v is not None and not (0.0 <= v.si <= 500.0):
+                raise FieldError(name, f"{name} {v.text} must lie between 0 and 500 m/s")
         return self
 
 
@@ -536,7 +639,7 @@ class Cruise(_Req):
     @classmethod
     def _thr(cls, v):
         if not (0.0 < v <= 1.0):
-            raise ValueError(f"throttle {v} must lie in (0, 1]")
+            raise ValueError(f"throttle {v:g} must lie in (0, 1]")
         return v
 
 
@@ -557,11 +660,10 @@ class Takeoff(_Req):
 
     @model_validator(mode="after")
     def _ranges(self):
-        _positive("ground_roll", self.ground_roll)
-        if not (0.0 <= self.rolling_friction <= 0.3):
-            raise ValueError(f"rolling_friction {self.rolling_friction} is outside 0 to 0.3")
-        if not (1.0 <= self.liftoff_speed_ratio <= 1.5):
-            raise ValueError(f"liftoff_speed_ratio {self.liftoff_speed_ratio} is outside 1.0 to 1.5")
+        _positive("ground_roll", self.ground_roll, 1.0e5)
+        _within("rolling_friction", self.rolling_friction, 0.0, 0.3)
+        _within("liftoff_speed_ratio", self.liftoff_speed_ratio, 1.0, 1.5)
+        _within("ground_lift_coefficient", self.ground_lift_coefficient, 0.0, 4.5)
         return self
 
 
@@ -574,13 +676,10 @@ class Landing(_Req):
 
     @model_validator(mode="after")
     def _ranges(self):
-        _positive("ground_roll", self.ground_roll)
-        if not (0.05 <= self.braking_friction <= 1.0):
-            raise ValueError(f"braking_friction {self.braking_friction} is outside 0.05 to 1.0")
-        if not (1.0 <= self.touchdown_speed_ratio <= 1.5):
-            raise ValueError(f"touchdown_speed_ratio {self.touchdown_speed_ratio} is outside 1.0 to 1.5")
-        if self.free_roll_time.si < 0:
-            raise ValueError("free_roll_time cannot be negative")
+        _positive("ground_roll", self.ground_roll, 1.0e5)
+        _within("braking_friction", self.braking_friction, 0.05, 1.0)
+        _within("touchdown_speed_ratio", self.touchdown_speed_ratio, 1.0, 1.5)
+        _within("free_roll_time", self.free_roll_time, 0.0, 60.0, "0 to 60 s")
         return self
 
 
@@ -592,10 +691,8 @@ class ClimbGradient(_Req):
 
     @model_validator(mode="after")
     def _ranges(self):
-        if not (-0.1 <= self.gradient <= 0.5):
-            raise ValueError(f"gradient {self.gradient} is outside -10 % to 50 %")
-        if not (1.0 <= self.speed_ratio <= 2.0):
-            raise ValueError(f"speed_ratio {self.speed_ratio} is outside 1.0 to 2.0")
+        _within("gradient", self.gradient, -0.1, 0.5, "-10 % to 50 %")
+        _within("speed_ratio", self.speed_ratio, 1.0, 2.0)
         return self
 
 
@@ -613,17 +710,21 @@ class DesignSpace(Strict):
 
     @model_validator(mode="after")
     def _order(self):
-        for name in ("wing_loading", "thrust_to_weight", "power_to_weight"):
+        for name, top in (("wing_loading", 1.0e5), ("thrust_to_weight", 20.0), ("power_to_weight", 2000.0)):
             r = getattr(self, name)
             if r is not None:
                 lo, hi = (float(x) for x in r)
                 if not (0 <= lo < hi):
-                    raise ValueError(f"{name} range [{lo:g}, {hi:g}] must be increasing and non-negative")
+                    raise FieldError(name, f"{name} range [{lo:g}, {hi:g}] (SI) must be increasing and "
+                                           f"non-negative")
+                if not hi <= top:
+                    raise FieldError((name, 1), f"{name} upper bound {hi:g} (SI) is not plausible "
+                                                f"(at most {top:g})")
         return self
 
 
 class RequirementFile(Strict):
-    title: str = "Untitled concept"
+    title: Text = "Untitled concept"
     aircraft: Aircraft
     mission: Optional[Mission] = None
     requirements: list[Requirement] = Field(min_length=1)
@@ -632,45 +733,68 @@ class RequirementFile(Strict):
 
     @model_validator(mode="after")
     def _cross(self):
-        ids = [r.id for r in self.requirements]
-        dup = sorted({i for i in ids if ids.count(i) > 1})
-        if dup:
-            raise ValueError(f"duplicate requirement ids: {', '.join(dup)}")
+        seen = {}
+        for i, r in enumerate(self.requirements):
+            if r.id in seen:
+                raise FieldError(("requirements", i, "id"), f"duplicate requirement id {r.id!r} (also "
+                                 f"requirement {seen[r.id] + 1}); every id must be unique")
+            seen[r.id] = i
         prop = self.aircraft.propulsion.type in PROPELLER_TYPES
+        kind = "a propeller aircraft" if prop else "a jet"
         emp = self.aircraft.weights.empty
+        where = ("aircraft", "weights", "empty", "propulsion")
         if isinstance(emp, EmptyComponents):
-            per_power = units.DIMENSIONS["mass_per_power"]
-            is_power = abs(emp.propulsion.scale) > 0 and _is_dim(emp.propulsion, "mass_per_power")
+            is_power = _is_dim(emp.propulsion, "mass_per_power")
             if prop and not is_power:
-                raise ValueError("weights.empty.propulsion: a propeller aircraft gives mass per sea-level "
-                                 f"power, e.g. {per_power.examples}")
+                raise FieldError(where, f"{kind} gives mass per sea-level power, e.g. "
+                                        f"{units.DIMENSIONS['mass_per_power'].examples}, got {emp.propulsion.text}")
             if not prop and is_power:
-                raise ValueError("weights.empty.propulsion: a jet gives mass per sea-level thrust, e.g. '0.025 kg/N'")
+                raise FieldError(where, f"{kind} gives mass per sea-level thrust, e.g. '0.025 kg/N', "
+                                        f"got {emp.propulsion.text}")
+        if self.mission is not None:
+            want = "psfc" if prop else "tsfc"
+            example = "'0.45 lb/(hp*h)'" if prop else "'0.9 1/h' or '22 mg/(N*s)'"
+            places = [(("mission", "tsfc"), self.mission.tsfc)] + [
+                (("mission", "segments", i, "tsfc"), getattr(s, "tsfc", None))
+                for i, s in enumerate(self.mission.segments)]
+            for path, q in places:
+                if q is not None and not _is_dim(q, want):
+                    raise FieldError(path, f"{kind} burns fuel per {'power' if prop else 'thrust'}: give "
+                                           f"{'power' if prop else 'thrust'}-specific consumption such as "
+                                           f"{example}, got {q.text}")
         names = [s.name for s in self.mission.segments if s.name] if self.mission else []
-        for r in self.requirements:
+        engines = self.aircraft.propulsion.engines
+        for i, r in enumerate(self.requirements):
             if isinstance(r.weight_fraction, After) and r.weight_fraction.after not in names:
                 near = difflib.get_close_matches(r.weight_fraction.after, names, 1)
                 hint = f" (did you mean {near[0]!r}?)" if near else ""
-                raise ValueError(f"requirement {r.id}: weight_fraction after {r.weight_fraction.after!r} "
-                                 f"names no mission segment{hint}; segments: {', '.join(names) or 'none'}")
-            if isinstance(r, ClimbGradient) and r.engines_out >= self.aircraft.propulsion.engines:
-                raise ValueError(f"requirement {r.id}: engines_out {r.engines_out} leaves no engine "
-                                 f"running (the aircraft has {self.aircraft.propulsion.engines})")
+                raise FieldError(("requirements", i, "weight_fraction", "after"),
+                                 f"{r.weight_fraction.after!r} names no mission segment{hint}; segments: "
+                                 f"{', '.join(names) or 'none (there is no mission with named segments)'}")
+            if isinstance(r, ClimbGradient) and r.engines_out >= engines:
+                raise FieldError(("requirements", i, "engines_out"),
+                                 f"engines_out {r.engines_out} leaves no engine running (the aircraft "
+                                 f"has {engines})")
             mach = getattr(r, "mach", None)
             if mach is not None and mach > self.aircraft.aerodynamics.mach_max:
-                raise ValueError(f"requirement {r.id}: mach {mach} lies above the drag polar's Mach table "
-                                 f"(up to {self.aircraft.aerodynamics.mach_max})")
+                raise FieldError(("requirements", i, "mach"),
+                                 f"mach {mach:g} lies above the drag polar's Mach table (up to "
+                                 f"{self.aircraft.aerodynamics.mach_max:g}); extend the table or lower the Mach")
         fuel = self.aircraft.weights.fuel.fraction
         if fuel is None and self.mission is None:
-            raise ValueError("give weights.fuel.fraction, or a mission to compute the fuel from")
+            raise FieldError(("aircraft", "weights", "fuel"),
+                             "give weights.fuel.fraction, or a mission to compute the fuel from")
         if fuel is not None and self.mission is not None:
-            raise ValueError("give weights.fuel.fraction or a mission, not both")
+            raise FieldError(("aircraft", "weights", "fuel", "fraction"),
+                             "give weights.fuel.fraction or a mission, not both")
         ds = self.design_space
         if ds is not None:
             if prop and ds.thrust_to_weight is not None:
-                raise ValueError("design_space: a propeller aircraft is sized by power_to_weight (W/N), not thrust_to_weight")
+                raise FieldError(("design_space", "thrust_to_weight"), "a propeller aircraft is sized by "
+                                 "power_to_weight (W/N), not thrust_to_weight")
             if not prop and ds.power_to_weight is not None:
-                raise ValueError("design_space: a jet is sized by thrust_to_weight, not power_to_weight")
+                raise FieldError(("design_space", "power_to_weight"),
+                                 "a jet is sized by thrust_to_weight, not power_to_weight")
         return self
 
 
@@ -686,74 +810,151 @@ def _is_dim(q: units.Quantity, dim: str) -> bool:
 # Loading with line numbers
 # --------------------------------------------------------------------------
 
+MAX_NODES = 100_000      # more values than this (through aliases) is not a requirement file
+
+_YAML_HINTS = (
+    ("'\\t'", "indent with spaces, not tabs"),
+    ("mapping values are not allowed", "a missing space after ':', a missing quote, or a wrong indent?"),
+    ("could not find expected ':'", "a key without ':' or an unclosed quote?"),
+    ("expected <block end>", "the indentation does not line up with the lines above"),
+    ("found undefined alias", "an alias (*name) needs an anchor (&name) above it"),
+)
+
 
 def _yaml_with_lines(text: str, filename: str):
+    """Parse YAML text into (data, lines): lines maps key paths to line numbers."""
     import yaml
 
     try:
         loader = yaml.SafeLoader(text)
         try:
             node = loader.get_single_node()
+            if node is None:
+                raise InputError("the file is empty; a requirement file is a mapping with title, aircraft "
+                                 "and requirements", filename, 1)
+            lines = _node_lines(node, filename)
+            data = loader.construct_document(node)
         finally:
             loader.dispose()
     except yaml.MarkedYAMLError as e:
         mark = e.problem_mark or e.context_mark
         line = mark.line + 1 if mark else None
-        raise InputError(f"YAML syntax: {e.problem or e}", filename, line) from None
-    except yaml.YAMLError as e:
-        raise InputError(f"YAML syntax: {e}", filename) from None
-    if node is None:
-        raise InputError("the file is empty; a requirement file is a mapping with aircraft and requirements",
-                         filename, 1)
-    lines: dict = {(): node.start_mark.line + 1}
-
-    def walk(n, path):
-        if isinstance(n, yaml.MappingNode):
-            for k, v in n.value:
-                key = k.value
-                lines[path + (key,)] = k.start_mark.line + 1
-                walk(v, path + (key,))
-        elif isinstance(n, yaml.SequenceNode):
-            for i, item in enumerate(n.value):
-                lines[path + (i,)] = item.start_mark.line + 1
-                walk(item, path + (i,))
-
-    walk(node, ())
-    try:
-        data = yaml.SafeLoader(text).get_single_data()
+        problem = e.problem or str(e)
+        if e.context and "while" not in e.context:
+            problem = f"{e.context}: {problem}"
+        hint = next((h for key, h in _YAML_HINTS if key in problem), "")
+        col = f" (column {mark.column + 1})" if mark else ""
+        raise InputError(f"YAML syntax: {problem}{col}" + (f"; {hint}" if hint else ""), filename, line) from None
+    except yaml.reader.ReaderError as e:
+        line = text.count("\n", 0, max(e.position, 0)) + 1
+        raise InputError(f"not YAML text: character {e.character!r} cannot appear in a YAML file "
+                         f"(is it a binary file?)", filename, line) from None
     except yaml.YAMLError as e:
         raise InputError(f"YAML: {e}", filename) from None
+    except RecursionError:
+        raise InputError("the YAML is nested too deeply to be a requirement file", filename) from None
     return data, lines
 
 
-def _locate(loc, data, lines):
-    """Map a pydantic error location to (line, readable field path)."""
-    path: tuple = ()
-    shown = []
-    node = data
-    for item in loc:
-        nxt = None
-        if isinstance(node, dict) and item in node:
-            nxt = node[item]
-        elif isinstance(node, list) and isinstance(item, int) and 0 <= item < len(node):
-            nxt = node[item]
-        else:
+def _node_lines(root, filename):
+    """Line of every key path; rejects duplicate keys, cyclic and exploding aliases."""
+    import yaml
+
+    lines: dict = {(): root.start_mark.line + 1}
+    stack = [(root, (), frozenset(), False)]
+    count = 0
+    while stack:
+        n, path, ancestors, merged = stack.pop()
+        count += 1
+        if count > MAX_NODES:
+            raise InputError(f"the file expands to more than {MAX_NODES:,} values (through aliases); "
+                             f"a requirement file is much smaller", filename, n.start_mark.line + 1)
+        if not isinstance(n, (yaml.MappingNode, yaml.SequenceNode)):
             continue
-        path = path + (item,)
-        if isinstance(item, int):
+        if id(n) in ancestors:
+            raise InputError("an alias refers to a value that contains it (a cycle)", filename,
+                             n.start_mark.line + 1)
+        inner = ancestors | {id(n)}
+        if isinstance(n, yaml.SequenceNode):
+            for i, item in enumerate(n.value):
+                lines.setdefault(path + (i,), item.start_mark.line + 1)
+                stack.append((item, path + (i,), inner, merged))
+            continue
+        seen: dict = {}
+        for k, v in n.value:
+            if isinstance(k, yaml.ScalarNode) and k.tag == "tag:yaml.org,2002:merge":
+                for m in (v.value if isinstance(v, yaml.SequenceNode) else [v]):
+                    stack.append((m, path, inner, True))
+                continue
+            key = k.value if isinstance(k, yaml.ScalarNode) else repr(k.value)
+            line = k.start_mark.line + 1
+            if key in seen and not merged:
+                raise InputError(f"duplicate key {key!r} (first on line {seen[key]}); YAML would keep only "
+                                 f"the last one, so remove or rename one", filename, line,
+                                 _show_path(path + (key,)))
+            seen[key] = line
+            if merged:
+                lines.setdefault(path + (key,), line)
+            else:
+                lines[path + (key,)] = line
+            stack.append((v, path + (key,), inner, merged))
+    return lines
+
+
+def _show_path(path) -> str:
+    out = ""
+    for item in path:
+        out += f"[{item}]" if isinstance(item, int) else ("." if out else "") + str(item)
+    return out or "(top level)"
+
+
+def _child(node, item):
+    """(True, child) when ``item`` is a key or index of ``node``, else (False, None)."""
+    if isinstance(node, dict):
+        try:
+            if item in node:
+                return True, node[item]
+        except TypeError:
+            return False, None
+    elif isinstance(node, list) and isinstance(item, int) and not isinstance(item, bool) \
+            and 0 <= item < len(node):
+        return True, node[item]
+    return False, None
+
+
+def _locate(loc, data, lines, tail=()):
+    """Map a pydantic error location to (line, readable field path, data path, node).
+
+    Items of ``loc`` that are not keys of the data (pydantic's names of union
+    members) are skipped; ``tail`` items (a FieldError's field, a missing
+    key) are shown even where the data lack them.
+    """
+    path: tuple = ()
+    shown = ""
+    node = data
+    for k, item in enumerate(tuple(loc) + tuple(tail)):
+        is_tail = k >= len(loc)
+        found, nxt = _child(node, item)
+        if not found:
+            if is_tail:
+                shown += f"[{item}]" if isinstance(item, int) else ("." if shown else "") + str(item)
+                node = None
+            continue
+        if isinstance(node, list):
             label = f"[{item}]"
-            if isinstance(nxt, dict) and "id" in nxt:
+            if isinstance(nxt, dict) and isinstance(nxt.get("id"), (str, int, float)):
                 label += f" (id {nxt['id']})"
-            shown.append(label)
+            shown += label
         else:
-            shown.append(("." if shown else "") + str(item))
+            shown += ("." if shown else "") + str(item)
+        path = path + (item,)
         node = nxt
     line = None
     for k in range(len(path), -1, -1):
         if path[:k] in lines:
             line = lines[path[:k]]
             break
-    return line, "".join(shown) or "(top level)", path, node
+    return line, shown or "(top level)", path, node
 
 
 def _model_for(path, data):
@@ -781,19 +982,23 @@ def _model_for(path, data):
     return model
 
 
-def _pick_model(annotation, node):
+def _candidates(annotation) -> list:
     import typing
 
-    args = typing.get_args(annotation)
-    candidates = []
-    stack = [annotation]
+    out, stack = [], [annotation]
     while stack:
         a = stack.pop()
         if isinstance(a, type) and issubclass(a, BaseModel):
-            candidates.append(a)
+            out.append(a)
         else:
-            stack.extend(typing.get_args(a))
-    del args
+            stack.extend(reversed(typing.get_args(a)))
+    return out
+
+
+def _pick_model(annotation, node):
+    import typing
+
+    candidates = _candidates(annotation)
     if not candidates:
         return None
     if isinstance(node, dict):
@@ -805,33 +1010,199 @@ def _pick_model(annotation, node):
     return candidates[0]
 
 
+def _tags_for(path, data, disc: str) -> list:
+    """Valid discriminator values (kinds, models) of the union at ``path``."""
+    import typing
+
+    strs = [k for k, item in enumerate(path) if isinstance(item, str)]
+    if not strs:
+        return []
+    k = strs[-1]
+    parent = _model_for(path[:k], data)
+    field = parent.model_fields.get(path[k]) if parent is not None else None
+    if field is None:
+        return []
+    tags = []
+    for c in _candidates(field.annotation):
+        f = c.model_fields.get(disc)
+        if f is not None:
+            tags.extend(typing.get_args(f.annotation))
+    return tags
+
+
+def _model_names() -> set:
+    return {n for n, o in globals().items() if isinstance(o, type) and issubclass(o, BaseModel)}
+
+
+def _union_split(e, data):
+    """(data path of a union, name of the member) for an error inside a plain union, else None."""
+    loc = tuple(e.get("loc", ()))
+    node, prefix = data, ()
+    for i, item in enumerate(loc):
+        found, nxt = _child(node, item)
+        if found:
+            node, prefix = nxt, prefix + (item,)
+            continue
+        if e.get("type") == "missing" and i == len(loc) - 1:
+            return None
+        return prefix, str(item)
+    return None
+
+
+def _data_path(loc, data) -> tuple:
+    """The items of a pydantic location that are keys or indices of the data."""
+    node, path = data, ()
+    for item in loc:
+        found, nxt = _child(node, item)
+        if found:
+            node, path = nxt, path + (item,)
+    return path
+
+
+def _node_at(data, path):
+    node = data
+    for item in path:
+        found, node = _child(node, item)
+        if not found:
+            return None
+    return node
+
+
+def _pick_branches(errors, data):
+    """For a value that failed every member of a union (``cd0: number | table``),
+    keep only the errors of the member the user evidently meant."""
+    names = _model_names()
+    groups: dict = {}
+    for i, e in enumerate(errors):
+        split = _union_split(e, data)
+        if split is not None:
+            groups.setdefault(split[0], {}).setdefault(split[1], []).append(i)
+    drop = set()
+    for prefix, branches in groups.items():
+        if len(branches) < 2:
+            continue
+        is_map = isinstance(_node_at(data, prefix), dict)
+
+        def is_model(tag):
+            return any(n in names for n in re.findall(r"[A-Za-z_][A-Za-z0-9_]*", tag))
+
+        keep = [t for t in branches if is_model(t) == is_map] or list(branches)
+        best = min(keep, key=lambda t: len(branches[t]))
+        for t, idx in branches.items():
+            if t != best:
+                drop.update(idx)
+    return [e for i, e in enumerate(errors) if i not in drop]
+
+
+def _show(node) -> str:
+    if node is None:
+        return "nothing (an empty value)"
+    if isinstance(node, dict):
+        return "a mapping"
+    if isinstance(node, list):
+        return "a list"
+    text = repr(node)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _near(word, valid) -> str:
+    near = difflib.get_close_matches(str(word), [str(v) for v in valid], 1)
+    return f" (did you mean {near[0]!r}?)" if near else ""
+
+
+def _message(e, data, path, node, field):
+    """One readable message for one pydantic error; returns (message, field)."""
+    t, ctx, loc = e.get("type"), e.get("ctx") or {}, tuple(e.get("loc", ()))
+    msg = e.get("msg", "invalid")
+    if msg.startswith("Value error, "):
+        msg = msg[len("Value error, "):]
+    if t == "extra_forbidden":
+        key = loc[-1]
+        parent = _model_for(path[:-1], data) if path and path[-1] == key else _model_for(path, data)
+        valid = list(parent.model_fields) if parent else []
+        msg = f"unknown key {key!r}" + _near(key, valid)
+        if valid:
+            msg += f"; valid keys here: {', '.join(valid)}"
+    elif t == "missing":
+        parent = _model_for(path, data)
+        f = parent.model_fields.get(loc[-1]) if parent is not None else None
+        what = f" ({f.description})" if f is not None and f.description else ""
+        msg = f"missing required field {loc[-1]!r}{what}"
+    elif t == "union_tag_invalid":
+        disc = str(ctx.get("discriminator", "kind")).strip("'")
+        tags = _tags_for(path, data, disc)
+        msg = (f"unknown {disc} {ctx.get('tag')!r}" + _near(ctx.get("tag"), tags) +
+               f"; valid: {', '.join(tags) or ctx.get('expected_tags')}")
+    elif t == "union_tag_not_found":
+        disc = str(ctx.get("discriminator", "kind")).strip("'")
+        tags = _tags_for(path, data, disc)
+        if isinstance(node, dict):
+            msg = f"missing {disc!r}; valid: {', '.join(tags)}"
+        else:
+            msg = f"expected a mapping with {disc!r} ({', '.join(tags)}), got {_show(node)}"
+    elif t == "literal_error":
+        valid = re.findall(r"'([^']*)'", str(ctx.get("expected", "")))
+        msg = f"{_show(node)} is not valid{_near(node, valid)}; valid: {', '.join(valid)}"
+    elif t in ("model_type", "dict_type", "model_attributes_type"):
+        msg = f"expected a mapping (indented 'key: value' lines), got {_show(node)}"
+    elif t == "list_type":
+        msg = f"expected a list (lines starting with '- '), got {_show(node)}"
+    elif t == "tuple_type":
+        msg = f"expected a pair [low, high], got {_show(node)}"
+    elif t in ("too_short", "too_long"):
+        n, lo, hi = ctx.get("actual_length"), ctx.get("min_length"), ctx.get("max_length")
+        want = f"at least {lo}" if t == "too_short" else f"at most {hi}"
+        msg = f"has {n} entr{'y' if n == 1 else 'ies'}; needs {want}"
+    elif t in ("int_type", "int_parsing", "int_from_float"):
+        msg = f"expected a whole number, got {_show(node)}"
+    elif t in ("greater_than_equal", "greater_than"):
+        msg = f"{_show(node)} is too small: the smallest allowed value is {ctx.get('ge', ctx.get('gt'))}"
+    elif t in ("less_than_equal", "less_than"):
+        msg = f"{_show(node)} is too large: the largest allowed value is {ctx.get('le', ctx.get('lt'))}"
+    elif t in ("bool_type", "bool_parsing"):
+        msg = f"expected true or false, got {_show(node)}"
+    elif t == "string_type":
+        msg = f"expected text, got {_show(node)}"
+    elif t == "invalid_key":
+        parent = _model_for(path[:-1], data)
+        valid = f"; valid keys here: {', '.join(parent.model_fields)}" if parent is not None else ""
+        msg = f"key {loc[-1]!r} is not a name{valid}"
+    elif t == "recursion_loop":
+        msg = "a value refers to itself (cyclic alias)"
+    return msg, field
+
+
 def _messages(err: ValidationError, data, lines, filename):
+    """Located InputErrors for a pydantic ValidationError, in file order."""
+    errors = _pick_branches(err.errors(include_url=False), data)
     out = []
-    for e in err.errors(include_url=False):
+    for e in errors:
         loc = tuple(e.get("loc", ()))
-        line, field, path, node = _locate(loc, data, lines)
-        msg = e.get("msg", "invalid")
-        if msg.startswith("Value error, "):
-            msg = msg[len("Value error, "):]
-        if e.get("type") == "extra_forbidden":
-            key = loc[-1]
-            parent = _model_for(path[:-1], data) if path and path[-1] == key else _model_for(path, data)
-            valid = [k for k in (parent.model_fields if parent else {})]
-            near = difflib.get_close_matches(str(key), valid, 1)
-            msg = f"unknown key {key!r}" + (f" (did you mean {near[0]!r}?)" if near else "")
-            if valid:
-                msg += f"; valid keys here: {', '.join(valid)}"
-        elif e.get("type") == "missing":
-            msg = f"missing required field {loc[-1]!r}"
-            field = (field + "." if field != "(top level)" else "") + str(loc[-1])
-        elif e.get("type") == "union_tag_invalid":
-            ctx = e.get("ctx", {})
-            msg = (f"unknown {ctx.get('discriminator', 'kind').strip(chr(39))} {ctx.get('tag')!r}; "
-                   f"valid: {ctx.get('expected_tags')}")
-        elif e.get("type") == "model_type" and isinstance(node, (str, int, float, list)):
-            msg = f"expected a mapping of keys, got {node!r}"
-        out.append(InputError(msg, filename, line, field))
-    return out
+        exc = (e.get("ctx") or {}).get("error")
+        tail = ()
+        if isinstance(exc, FieldError) and isinstance(_node_at(data, _data_path(loc, data)), dict):
+            tail = exc.path       # a model-level check blaming one of the model's fields
+        missing = e.get("type") == "missing"
+        if missing:
+            loc, tail = loc[:-1], (e["loc"][-1],)
+        line, field, path, node = _locate(loc, data, lines, tail)
+        if missing:
+            key = e["loc"][-1]
+        else:
+            key = path[-1] if path else None
+        msg, field = _message(e, data, path, node, field)
+        parent = path if missing else path[:-1]
+        out.append((e, InputError(msg, filename, line, field), parent, key))
+    # a misspelt key also shows up as a missing one: keep only the spelling hint
+    suggested = set()
+    for e, ie, parent, key in out:
+        m = re.search(r"did you mean '([^']+)'", ie.message)
+        if e.get("type") == "extra_forbidden" and m:
+            suggested.add((parent, m.group(1)))
+    kept = [ie for e, ie, parent, key in out
+            if not (e.get("type") == "missing" and (parent, key) in suggested)]
+    kept.sort(key=lambda ie: ie.line if ie.line is not None else 10 ** 9)
+    return kept
 
 
 class Spec:
@@ -887,20 +1258,25 @@ def _si(obj):
 
 
 def validate(data, filename: str = "<memory>", lines: dict | None = None, text: str = "") -> Spec:
-    """Validate already-parsed YAML data; raise the first located InputError."""
+    """Validate already-parsed YAML data; raise a located InputError.
+
+    The error describes the first problem in file order and carries the
+    others in ``InputError.others``.
+    """
     lines = lines or {(): 1}
     if not isinstance(data, dict):
-        raise InputError(f"a requirement file is a mapping with aircraft and requirements, "
-                         f"got {type(data).__name__}", filename, 1)
+        raise InputError(f"a requirement file is a mapping with title, aircraft and requirements, "
+                         f"got {_show(data)}", filename, 1)
     try:
         model = RequirementFile.model_validate(data)
     except ValidationError as e:
         errs = _messages(e, data, lines, filename)
+        if not errs:      # cannot happen with pydantic's errors, but never lose one
+            raise InputError(f"invalid requirement file: {e}", filename) from None
         first = errs[0]
-        if len(errs) > 1:
-            first.message += f"  (and {len(errs) - 1} more problem{'s' if len(errs) > 2 else ''})"
-            first.args = (first.describe(),)
-        raise first from None
+        raise InputError(first.message, first.file, first.line, first.field, errs[1:]) from None
+    except RecursionError:
+        raise InputError("a value refers to itself (cyclic alias) or is nested too deeply", filename) from None
     return Spec(model, data, filename, text)
 
 
@@ -909,19 +1285,35 @@ def load_text(text: str, filename: str = "<memory>") -> Spec:
     return validate(data, filename, lines, text)
 
 
+MAX_BYTES = 5_000_000     # a requirement file is a few kilobytes
+
+
 def load(path) -> Spec:
-    """Read and validate a requirement file; raises :class:`InputError`."""
+    """Read and validate a requirement file; raises :class:`InputError`.
+
+    The file is only read, never written.
+    """
     p = Path(path)
     try:
+        size = p.stat().st_size
+        if size > MAX_BYTES:
+            raise InputError(f"the file has {size:,} bytes; a requirement file is YAML text of a few "
+                             f"kilobytes (is this the right file?)", str(path))
         raw = p.read_bytes()
     except OSError as e:
-        raise InputError(f"cannot read the file: {e.strerror}", str(path)) from None
+        raise InputError(f"cannot read the file: {e.strerror or e}", str(path)) from None
+    if b"\x00" in raw:
+        line = raw.count(b"\n", 0, raw.index(b"\x00")) + 1
+        raise InputError("not a text file (it contains NUL bytes); a requirement file is YAML text",
+                         str(path), line)
     try:
         text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise InputError("not a text file (it is not UTF-8); a requirement file is YAML text", str(path)) from None
-    if "\x00" in text:
-        raise InputError("not a text file (it contains NUL bytes); a requirement file is YAML text", str(path))
+    except UnicodeDecodeError as e:
+        line = raw.count(b"\n", 0, e.start) + 1
+        raise InputError(f"not UTF-8 text (byte {raw[e.start]:#04x} at offset {e.start}); a requirement "
+                         f"file is YAML text, saved as UTF-8", str(path), line) from None
+    if text.startswith("\ufeff"):      # a byte-order mark some editors write
+        text = text[1:]
     return load_text(text, str(path))
 
 

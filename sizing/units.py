@@ -22,8 +22,9 @@ def registry():
     import pint
 
     ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-    ureg.define("kn = knot")
-    ureg.define("KTAS = knot")
+    for name in ("kn", "KTAS"):     # knots of true airspeed, in case this pint lacks them
+        if name not in ureg:
+            ureg.define(f"{name} = knot")
     return ureg
 
 
