@@ -1,0 +1,325 @@
+"""Constraint diagram: every example renders, the figure shows what the solver used.
+
+Most checks here are consistency checks against independent re-evaluation
+of the project's own constraint and weight functions
+(# common practice, no source); unit conversions and the palette checks
+name their external sources beside them.
+"""
+import csv
+import io
+import os
+import subprocess
+import sys
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from sizing import constraints as C
+from sizing import model as M
+from sizing import plots as P
+from sizing import weights as Wt
+from sizing.errors import InputError
+from sizing.report import CAUTION
+from sizing.solve import solve
+from sizing.spec import load, validate
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
+SIZING = Path(sys.executable).parent / "sizing"
+SVG_NS = "{http://www.w3.org/2000/svg}"
+
+
+@pytest.fixture(scope="module")
+def solved():
+    out = {}
+    for path in EXAMPLES:
+        spec = load(path)
+        out[path.name] = (spec, solve(spec))
+    return out
+
+
+@pytest.fixture(scope="module")
+def drawn(solved):
+    return {name: P.constraint_diagram(spec, result=res) for name, (spec, res) in solved.items()}
+
+
+@pytest.fixture(scope="module")
+def infeasible():
+    """The trainer example asked for a 7.5 g sustained turn: no design closes."""
+    spec = load(ROOT / "requirements" / "trainer-jet.yaml")
+    data = dict(spec.data)
+    data["requirements"] = [dict(r, load_factor=7.5) if r["id"] == "turn-4g" else r for r in data["requirements"]]
+    spec = validate(data, "trainer-7g5.yaml", text="trainer-7g5")
+    res = solve(spec)
+    assert not res.feasible   # precondition of the tests below
+    return spec, res
+
+
+def svg_texts(svg: bytes):
+    root = ET.fromstring(svg)
+    return ["".join(t.itertext()) for t in root.iter(f"{SVG_NS}text")]
+
+
+# ------------------------------------------------------------------- rendering
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_every_example_renders_png_svg_pdf(drawn, solved, name):
+    h = drawn[name]
+    spec, res = solved[name]
+    png, svg, pdf = (P.figure_bytes(h.figure, f, dpi=30) for f in ("png", "svg", "pdf"))
+    # Source: PNG signature (ISO/IEC 15948 §5.2), PDF header (ISO 32000-1 §7.5.2)
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    assert pdf[:5] == b"%PDF-"
+    texts = svg_texts(svg)        # SVG parses as XML (W3C SVG 1.1) and keeps text as text
+    joined = "\n".join(texts)
+    for r in spec.requirements:   # common practice, no source: every id labelled on the plot
+        assert any(t == r.id or t.startswith(r.id + " ") for t in texts), r.id
+    assert spec.title in joined
+    assert spec.sha256[:12] in joined and Path(spec.path).name in joined
+    assert "conceptual-design estimate only" in joined
+    if res.feasible:
+        assert "design point" in joined
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_labels_do_not_overlap(drawn, name):
+    # common practice, no source: no label hides another on the slide
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    h = drawn[name]
+    canvas = FigureCanvasAgg(h.figure)
+    canvas.draw()                    # positions the design label's box at this dpi
+    renderer = canvas.get_renderer()
+    boxes = [t.get_window_extent(renderer) for t in h.labels.values()]
+    if h.design_label is not None:
+        boxes.append(h.design_label.get_bbox_patch().get_window_extent(renderer))
+    ax_box = h.ax.get_window_extent(renderer)
+    for i, a in enumerate(boxes):
+        assert a.x0 >= ax_box.x0 - 1 and a.x1 <= ax_box.x1 + 1 and a.y0 >= ax_box.y0 - 1 and a.y1 <= ax_box.y1 + 1
+        for b in boxes[i + 1:]:
+            assert not a.overlaps(b)
+
+
+# ----------------------------------------------------------- design point
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_design_point_is_the_solve_result(drawn, solved, name):
+    # common practice, no source: the marker sits at the solver's answer
+    spec, res = solved[name]
+    h = drawn[name]
+    d = res.design
+    Y = d.power_to_weight if res.propeller else d.thrust_to_weight
+    assert h.design_point.get_xdata()[0] == pytest.approx(d.wing_loading, rel=1e-12)
+    assert h.design_point.get_ydata()[0] == pytest.approx(Y, rel=1e-12)
+    assert f"{d.takeoff_mass:,.0f} kg" in h.design_label.get_text()
+    lo, hi = h.ax.get_xlim()
+    assert lo <= d.wing_loading <= hi
+    lo, hi = h.ax.get_ylim()
+    assert lo <= Y <= hi
+
+
+def test_design_point_in_us_units(solved):
+    spec, res = solved["trainer-jet.yaml"]
+    h = P.constraint_diagram(spec, result=res, units="us", mass_lines=False)
+    # Source: NIST SP 811 (2008) Appendix B.8: 1 lbf/ft^2 = 47.88026 Pa; 1 lb = 0.45359237 kg
+    assert h.design_point.get_xdata()[0] == pytest.approx(res.design.wing_loading / 47.88026, rel=1e-6)
+    assert f"{res.design.takeoff_mass / 0.45359237:,.0f} lb" in h.design_label.get_text()
+
+
+def test_propeller_power_in_hp_per_lb(solved):
+    spec, res = solved["touring-piston.yaml"]
+    h = P.constraint_diagram(spec, result=res, units="us", mass_lines=False, hatch=False)
+    # Source: NIST SP 811 Appendix B.8: 1 hp (550 ft lbf/s) = 745.6999 W; 1 lbf = 4.448222 N
+    want = res.design.power_to_weight * 4.448222 / 745.6999
+    assert h.design_point.get_ydata()[0] == pytest.approx(want, rel=1e-6)
+    assert "hp/lb" in h.ax.get_ylabel()
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_constant_mass_line_through_the_design_closes_to_its_mass(solved, name):
+    # common practice, no source: the weight closure of the diagram is the solver's
+    spec, res = solved[name]
+    d = res.design
+    Y = d.power_to_weight if res.propeller else d.thrust_to_weight
+    m = P.closure_mass_grid(spec, [d.wing_loading], [Y])
+    assert m[0, 0] == pytest.approx(d.takeoff_mass, rel=1e-6)
+
+
+# ------------------------------------------------------------------ CSV data
+
+def _independent_curve(spec, rid, W_S):
+    """required_curve at each wing loading on its own, betas from the mission directly."""
+    tree = M.spec_tree(spec)
+    ac = M.aircraft(tree)
+    r = tree["requirements"][rid]
+    thrust, limit = [], []
+    for w in W_S:
+        wf = r.get("weight_fraction")
+        beta = None
+        if isinstance(wf, dict):
+            beta = {n: float(be) for n, _f, be in Wt.mission_fractions(tree, ac, float(w))}[wf["after"]]
+        with np.errstate(all="ignore"):
+            t, lim, _ = C.required_curve(M.requirement(r, ac, beta), ac, np.array([float(w)]))
+        thrust.append(None if t is None else float(t[0]))
+        limit.append(None if lim is None else float(lim[0]))
+    return thrust, limit
+
+
+def _check_csv(spec, text, every=10):
+    rows = list(csv.reader(io.StringIO(text)))
+    head, body = rows[0], rows[1:]
+    assert head[0] == "wing_loading_Pa"
+    col = {name: i for i, name in enumerate(head)}
+    assert set(col) - {"wing_loading_Pa"} >= {r.id for r in spec.requirements}
+    picked = body[::every]
+    W_S = [float(r[0]) for r in picked]
+    for req in spec.requirements:
+        thrust, limit = _independent_curve(spec, req.id, W_S)
+        if thrust[0] is not None:
+            got = [float(r[col[req.id]]) for r in picked]
+            np.testing.assert_allclose(got, thrust, rtol=1e-9)
+            if limit[0] is not None:
+                got = [float(r[col[f"{req.id}:wing_loading_limit_Pa"]]) for r in picked]
+                np.testing.assert_allclose(got, limit, rtol=1e-9)
+        else:
+            assert f"{req.id}:wing_loading_limit_Pa" not in col
+            got = [float(r[col[req.id]]) for r in picked]
+            np.testing.assert_allclose(got, limit, rtol=1e-9)
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_csv_equals_required_curve(drawn, solved, name):
+    spec, _res = solved[name]
+    _check_csv(spec, P.curves_csv(drawn[name].data))
+
+
+def test_drawn_curves_are_the_sampled_data(drawn):
+    # common practice, no source: the lines drawn hold the sampled numbers (SI view)
+    h = drawn["trainer-jet.yaml"]
+    for c in h.data.curves:
+        if c.thrust is not None:
+            y = h.curves[c.id].get_ydata()
+            ok = np.isfinite(y)
+            np.testing.assert_allclose(y[ok], c.thrust[ok], rtol=1e-12)
+        if c.thrust is None:
+            assert h.limits[c.id].get_xdata()[0] == pytest.approx(c.limit[0], rel=1e-12)
+
+
+# ------------------------------------------------------------------ infeasible
+
+def test_infeasible_set_still_draws(infeasible, tmp_path):
+    spec, res = infeasible
+    h = P.constraint_diagram(spec, result=res)
+    assert h.design_point is None
+    texts = svg_texts(P.figure_bytes(h.figure, "svg", dpi=30))
+    assert "no feasible design" in texts
+    for r in spec.requirements:   # common practice, no source
+        assert any(t == r.id or t.startswith(r.id + " ") for t in texts), r.id
+    out = P.write_diagram(spec, res, tmp_path / "d.png", data=tmp_path / "c.csv", dpi=30)
+    assert [Path(p).name for p in out] == ["d.png", "c.csv"]
+    _check_csv(spec, (tmp_path / "c.csv").read_text(), every=40)
+
+
+# ------------------------------------------------------------------ API, CLI
+
+def test_api_draws_into_a_given_axes_and_rejects_unknown_keywords(solved):
+    from matplotlib.figure import Figure
+
+    spec, res = solved["touring-piston.yaml"]
+    fig = Figure(figsize=(6, 4))
+    ax = fig.add_subplot()
+    h = res.diagram(ax=ax, mass_lines=False, hatch=False, footer=False)
+    assert h.ax is ax and h.figure is fig
+    assert set(h.curves) | set(h.limits) == {r.id for r in spec.requirements}
+    with pytest.raises(TypeError):
+        res.diagram(colour="red")
+    with pytest.raises(ValueError, match="units"):
+        P.constraint_diagram(spec, result=res, units="imperial")
+
+
+def test_unknown_suffix_is_a_located_input_error(solved, tmp_path):
+    spec, res = solved["touring-piston.yaml"]
+    with pytest.raises(InputError, match=r"\.png, \.svg, \.pdf"):
+        P.write_diagram(spec, res, tmp_path / "diagram.jpg")
+    assert not (tmp_path / "diagram.jpg").exists()
+
+
+def test_console_script_writes_svg_and_csv(tmp_path):
+    src = ROOT / "requirements" / "regional-turboprop.yaml"
+    out, data = tmp_path / "d.svg", tmp_path / "curves.csv"
+    p = subprocess.run([str(SIZING), "diagram", str(src), "-o", str(out), "--data", str(data)],
+                       capture_output=True, text=True, timeout=120)
+    assert p.returncode == 0, p.stderr
+    assert CAUTION in p.stdout
+    spec = load(src)
+    texts = svg_texts(out.read_bytes())
+    for r in spec.requirements:
+        assert any(t == r.id or t.startswith(r.id + " ") for t in texts), r.id
+    _check_csv(spec, data.read_text(), every=30)
+    p = subprocess.run([str(SIZING), "diagram", str(src), "-o", str(tmp_path / "d.gif")],
+                       capture_output=True, text=True, timeout=120)
+    assert p.returncode == 2 and "Traceback" not in p.stderr and ".png" in p.stderr
+
+
+def test_no_pyplot_no_display_nothing_left_open():
+    # common practice, no source: figures are plain Figure objects, pyplot is never imported
+    code = ("import sys\nfrom sizing.spec import load\nfrom sizing.solve import solve\n"
+            "from sizing.plots import constraint_diagram, figure_bytes\n"
+            "s = load('requirements/touring-piston.yaml'); h = constraint_diagram(s, solve(s), mass_lines=False)\n"
+            "figure_bytes(h.figure, 'png', dpi=20)\n"
+            "assert 'matplotlib.pyplot' not in sys.modules\n")
+    env = {k: v for k, v in os.environ.items() if k not in ("DISPLAY", "MPLBACKEND", "WAYLAND_DISPLAY")}
+    p = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, timeout=120,
+                       env=env)
+    assert p.returncode == 0, p.stderr
+
+
+# ------------------------------------------------------------------ palette
+
+def _srgb_to_linear(c):
+    c = np.asarray(c, float)
+    return np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+
+
+def _hex(h):
+    return np.array([int(h[i:i + 2], 16) / 255.0 for i in (1, 3, 5)])
+
+
+def _lab(lin):
+    # Source: IEC 61966-2-1 sRGB -> XYZ (D65) matrix; CIE 1976 L*a*b* (CIE 15:2004 §8.2.1)
+    X = np.array([[0.4124, 0.3576, 0.1805], [0.2126, 0.7152, 0.0722], [0.0193, 0.1192, 0.9505]]) @ lin
+    t = X / np.array([0.95047, 1.0, 1.08883])
+    f = np.where(t > (6 / 29) ** 3, np.cbrt(t), t / (3 * (6 / 29) ** 2) + 4 / 29)
+    return np.array([116 * f[1] - 16, 500 * (f[0] - f[1]), 200 * (f[1] - f[2])])
+
+
+def test_palette_contrast_on_white():
+    # Source: WCAG 2.1, SC 1.4.11 (non-text contrast >= 3:1) with the relative luminance
+    # and contrast ratio definitions of WCAG 2.1 §Definitions
+    for h in P.PALETTE:
+        L = float(np.array([0.2126, 0.7152, 0.0722]) @ _srgb_to_linear(_hex(h)))
+        assert (1.0 + 0.05) / (L + 0.05) >= 3.0, h
+
+
+def test_palette_stays_distinct_under_colour_vision_deficiency():
+    # Source: Machado, Oliveira & Fernandes, "A physiologically-based model for simulation of
+    # color vision deficiency", IEEE TVCG 15(6), 2009: severity-1.0 matrices on linear RGB
+    # (matrix values from memory). Threshold Delta E*ab >= 20: our own design target.
+    sims = {
+        "normal": np.eye(3),
+        "protanopia": np.array([[0.152286, 1.052583, -0.204868], [0.114503, 0.786281, 0.099216],
+                                [-0.003882, -0.048116, 1.051998]]),
+        "deuteranopia": np.array([[0.367322, 0.860646, -0.227968], [0.280085, 0.672501, 0.047413],
+                                  [-0.011820, 0.042940, 0.968881]]),
+        "tritanopia": np.array([[1.255528, -0.076749, -0.178779], [-0.078411, 0.930809, 0.147602],
+                                [0.004733, 0.691367, 0.303900]]),
+    }
+    for name, Msim in sims.items():
+        labs = [_lab(np.clip(Msim @ _srgb_to_linear(_hex(h)), 0, 1)) for h in P.PALETTE]
+        for i in range(len(labs)):
+            for j in range(i + 1, len(labs)):
+                d = float(np.linalg.norm(labs[i] - labs[j]))
+                assert d >= 20.0, (name, P.PALETTE[i], P.PALETTE[j], d)
+    assert len(set(P.MARKERS)) == len(P.MARKERS) >= len(P.PALETTE)
