@@ -1,0 +1,181 @@
+"""Review report: self-contained HTML and Markdown with every required part.
+
+Checks are consistency checks of the report against the solve result and
+the input file (# common practice, no source) unless a source is named.
+"""
+import base64
+import re
+import subprocess
+import sys
+import types
+from html.parser import HTMLParser
+from pathlib import Path
+
+import pytest
+
+import sizing
+from sizing import review as R
+from sizing.report import CAUTION, cost_line
+from sizing.solve import solve
+from sizing.spec import load, validate
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
+SIZING = Path(sys.executable).parent / "sizing"
+PNG = b"\x89PNG\r\n\x1a\n"      # Source: PNG signature, ISO/IEC 15948 §5.2
+
+
+@pytest.fixture(scope="module")
+def solved():
+    out = {}
+    for path in EXAMPLES:
+        spec = load(path)
+        out[path.name] = (spec, solve(spec))
+    return out
+
+
+class _Collect(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.stack, self.imgs, self.text, self.errors = [], [], [], []
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "img":
+            self.imgs.append(dict(attrs))
+        elif tag not in ("meta", "br"):
+            self.stack.append(tag)
+
+    def handle_endtag(self, tag):
+        if not self.stack or self.stack[-1] != tag:
+            self.errors.append(tag)
+        else:
+            self.stack.pop()
+
+    def handle_data(self, data):
+        self.text.append(data)
+
+
+def parse_html(text):
+    p = _Collect()
+    p.feed(text)
+    return p
+
+
+def embedded_pngs(text):
+    return [base64.b64decode(m) for m in re.findall(r"data:image/png;base64,([A-Za-z0-9+/=]+)", text)]
+
+
+def raw_values(spec):
+    """Every requirement value exactly as the user wrote it in the file."""
+    for raw in spec.data["requirements"]:
+        for k, v in raw.items():
+            if k not in ("id", "kind", "note") and not isinstance(v, dict):
+                yield raw["id"], str(v)
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_html_report_has_every_part(solved, name):
+    spec, res = solved[name]
+    text = R.render_report(spec, res, "html", envelope=False)
+    doc = parse_html(text)
+    assert not doc.errors and not doc.stack          # tags balanced
+    body = "".join(doc.text)
+    for r in spec.requirements:
+        assert r.id in body
+    for rid, v in raw_values(spec):                   # inputs echoed as written
+        assert v in body, (rid, v)
+    assert CAUTION in body
+    assert spec.title in body and spec.sha256[:12] in body and spec.sha256 in body
+    assert f"sizing {sizing.__version__}" in body
+    assert res.stats["return_status"] in body
+    pngs = embedded_pngs(text)
+    assert pngs and all(p[:8] == PNG for p in pngs)
+    assert len(doc.imgs) == len(pngs)
+    assert not re.search(r'src="(?!data:)', text)     # self-contained: no external resources
+    d = res.design
+    for v in (d.crew_mass, d.payload_mass, d.empty_mass, d.fuel_mass, d.takeoff_mass):
+        assert f"{v:,.0f}" in body
+    for r in res.requirements:
+        if r.active:
+            assert cost_line(r) in body
+        else:
+            assert f"+{r.margin * 100:,.1f} %" in body
+
+
+def test_weight_statement_adds_up(solved):
+    # Source: Raymer, Aircraft Design: A Conceptual Approach, Ch. 3: W0 = Wcrew + Wpayload
+    # + Wfuel + Wempty (the weight build-up the closure solves)
+    for spec, res in solved.values():
+        d = res.design
+        assert d.crew_mass + d.payload_mass + d.empty_mass + d.fuel_mass == pytest.approx(d.takeoff_mass, rel=1e-6)
+        rows = R._weight_rows(res)
+        parts = sum(float(r[1].replace(",", "")) for r in rows[:4])
+        assert parts == pytest.approx(float(rows[4][1].replace(",", "")), abs=2.0)   # printed to 1 kg
+
+
+def test_markdown_report_embeds_the_image_as_data_uri(solved, tmp_path):
+    spec, res = solved["touring-piston.yaml"]
+    path = R.write_report(spec, res, tmp_path / "review.md", fmt="md")
+    text = Path(path).read_text()
+    assert re.search(r"!\[[^\]]*\]\(data:image/png;base64,", text)
+    assert all(p[:8] == PNG for p in embedded_pngs(text))
+    for r in spec.requirements:
+        assert f"| {r.id} |" in text
+    assert CAUTION in text
+    # every table row has as many cells as its header (GitHub-flavoured Markdown tables)
+    for block in re.findall(r"((?:^\|.*\|\n)+)", text, flags=re.M):
+        lines = block.strip().splitlines()
+        n = lines[0].count(" | ")
+        assert all(ln.replace("\\|", "").count(" | ") == n for ln in lines if not ln.startswith("|-"))
+
+
+def test_envelope_section_is_included_when_available(solved, tmp_path):
+    spec, res = solved["trainer-jet.yaml"]
+    env = pytest.importorskip("sizing.envelope")
+    if not hasattr(env, "report_section"):
+        pytest.skip("sizing.envelope has no report_section yet")
+    text = Path(R.write_report(spec, res, tmp_path / "r.html")).read_text()
+    md, png = env.report_section(spec, res)
+    first_heading = re.search(r"^#+\s+(.*)$", md, flags=re.M).group(1)
+    assert f">{first_heading}<" in text
+    assert len(embedded_pngs(text)) == 2
+
+
+@pytest.mark.parametrize("stub", [None, types.ModuleType("sizing.envelope")])
+def test_report_works_without_the_envelope_module(solved, monkeypatch, stub):
+    # None in sys.modules makes the import raise ImportError; an empty module lacks the function
+    spec, res = solved["touring-piston.yaml"]
+    monkeypatch.setitem(sys.modules, "sizing.envelope", stub)
+    text = R.render_report(spec, res, "md")
+    assert "Envelope check" not in text and "Constraint diagram" in text
+
+
+def test_infeasible_report_names_conflicts_and_relaxations(tmp_path):
+    spec = load(ROOT / "requirements" / "trainer-jet.yaml")
+    data = dict(spec.data)
+    data["requirements"] = [dict(r, load_factor=7.5) if r["id"] == "turn-4g" else r for r in data["requirements"]]
+    spec = validate(data, "trainer-7g5.yaml", text="trainer-7g5")
+    res = solve(spec)
+    assert not res.feasible
+    text = R.render_report(spec, res, "html")
+    body = "".join(parse_html(text).text)
+    assert "No feasible design" in body and "Design point" not in body
+    for rid in res.infeasibility.conflicts:
+        assert rid in body and res.infeasibility.relaxations[rid]["text"] in body
+    assert CAUTION in body and embedded_pngs(text)
+
+
+def test_markdown_tables_become_html_tables():
+    # common practice, no source: the envelope's Markdown section rendered in the HTML report
+    html = R.md_to_html("## Envelope\n\nSome **bold** text.\n\n| a | b |\n|---|---|\n| 1 | x<y |\n\n- one\n- two\n")
+    assert "<h2>Envelope</h2>" in html and "<strong>bold</strong>" in html
+    assert "<td>x&lt;y</td>" in html and "<th>a</th>" in html and "<li>two</li>" in html
+
+
+def test_console_script_report(tmp_path):
+    out = tmp_path / "review.md"
+    p = subprocess.run([str(SIZING), "report", str(ROOT / "requirements" / "regional-turboprop.yaml"),
+                        "-o", str(out)], capture_output=True, text=True, timeout=180)
+    assert p.returncode == 0, p.stderr
+    text = out.read_text()
+    assert text.startswith("# ") and CAUTION in text and embedded_pngs(text)
