@@ -1,18 +1,14 @@
 """Constraint diagram: every requirement over wing loading, the design point
 and lines of constant takeoff mass (the only module here that draws).
 
-Compute, then data, then plot. :func:`diagram_data` samples each
-requirement with :func:`sizing.constraints.required_curve`, the very
-function the optimizer's constraints are built from, and the weight closure
-with :func:`sizing.weights.empty_fraction` / :func:`sizing.weights.fuel_fraction`;
-:func:`constraint_diagram` draws those numbers and computes no physics of
-its own; :func:`write_diagram` writes PNG, SVG or PDF (and the sampled
-curves as CSV) atomically.
-
-Axes: wing loading W_TO/S [N/m^2] against sea-level thrust-to-weight
-T_SL/W_TO [-] (jets) or power-to-weight P_SL/W_TO [W/N] (propeller
-aircraft); ``units="us"`` shows lb/ft^2 and lb/lb or hp/lb. Figures are
-:class:`matplotlib.figure.Figure` objects made directly (no pyplot, no
+Compute, then data, then plot. :func:`diagram_data` samples each requirement
+with :func:`sizing.constraints.required_curve`, the function the optimizer's
+constraints are built from, and the weight closure with
+:mod:`sizing.weights`; :func:`constraint_diagram` draws those numbers and
+computes no physics; :func:`write_diagram` writes PNG, SVG or PDF (and the
+curves as CSV) atomically. Axes: W_TO/S [N/m^2] against T_SL/W_TO [-] or, for
+propeller aircraft, P_SL/W_TO [W/N]; ``units="us"``: lb/ft^2, lb/lb or hp/lb.
+Figures are plain :class:`matplotlib.figure.Figure` objects (no pyplot, no
 display, nothing left open); matplotlib is imported only when drawing.
 """
 from __future__ import annotations
@@ -20,6 +16,7 @@ from __future__ import annotations
 import io
 import math
 import textwrap
+from collections import namedtuple
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -50,20 +47,11 @@ DPI = 150
 FONT = {"title": 15, "subtitle": 10.5, "axis": 12, "tick": 10.5, "label": 10.5,
         "mass": 9, "design": 10, "footer": 7.5, "banner": 20}
 
-LBF_FT2 = 47.880259       # Pa per lbf/ft^2
-N_PER_LBF = 4.4482216152605
-HP = 745.69987            # W per hp
-LB = 0.45359237           # kg per lb
+LBF_FT2, N_PER_LBF, HP, LB = Wt.LBF_FT2, Wt.N_PER_LBF, Wt.HP, Wt.LB   # Pa, N, W, kg per US unit
 
 
-@dataclass(frozen=True)
-class _Units:
-    x: float          # display units per N/m^2
-    x_unit: str
-    y: float          # display units per (-) or per W/N
-    y_unit: str
-    mass: float       # display units per kg
-    mass_unit: str
+# display units per SI unit of wing loading, T/W (or P/W) and mass, with their names
+_Units = namedtuple("_Units", "x x_unit y y_unit mass mass_unit")
 
 
 def _units(name: str, propeller: bool) -> _Units:
@@ -184,19 +172,16 @@ def _boundary(W_S, lim):
     """First wing loading where W_S reaches the limit (linear interpolation)."""
     if lim is None:
         return None
-    g = np.asarray(lim, float) - W_S
     if np.allclose(lim, lim[0], rtol=1e-12, atol=0.0):
         return float(lim[0])
+    g = np.asarray(lim, float) - W_S
     bad = np.where(~(g > 0))[0]
     if bad.size == 0:
         return math.nan
     i = int(bad[0])
-    if i == 0:
-        return float(W_S[0])
-    g0_, g1 = g[i - 1], g[i]
-    if not np.isfinite(g1):
+    if i == 0 or not np.isfinite(g[i]):
         return float(W_S[i])
-    return float(W_S[i - 1] + (W_S[i] - W_S[i - 1]) * g0_ / (g0_ - g1))
+    return float(W_S[i - 1] + (W_S[i] - W_S[i - 1]) * g[i - 1] / (g[i - 1] - g[i]))
 
 
 def closure_mass_grid(spec, W_S, Y, iterations=80, residual=False):
@@ -228,66 +213,51 @@ def closure_mass_grid(spec, W_S, Y, iterations=80, residual=False):
     return (mass, np.where(ok, rest, np.minimum(rest, 0.0))) if residual else mass
 
 
-def _nice(x, up=True):
-    """A round number (1, 2, 2.5, 5 x 10^k) at or above (below) x > 0."""
+def _nice(x):
+    """The round number (1, 2, 2.5 or 5 x 10^k) at or above x > 0."""
     if not x > 0:
         return 1.0
-    e = math.floor(math.log10(x))
-    steps = (1.0, 2.0, 2.5, 5.0, 10.0)
-    for s in (steps if up else reversed(steps)):
-        v = s * 10 ** e
-        if (up and v >= x * (1 - 1e-12)) or (not up and v <= x * (1 + 1e-12)):
-            return v
-    return 10 ** (e + 1) if up else 10 ** e
+    e = 10.0 ** math.floor(math.log10(x))
+    return next(k * e for k in (1.0, 2.0, 2.5, 5.0, 10.0) if k * e >= x * (1 - 1e-12))
 
 
-def _nice_ceil(x, step_guess):
-    step = _nice(step_guess)
+def _nice_ceil(x):
+    """x rounded up to a multiple of a round step near x/8."""
+    step = _nice(x / 8.0)
     return math.ceil(x / step - 1e-9) * step
 
 
 def _ranges(spec, result, u):
     """(x range [N/m^2], y range) around the design point, design_space first."""
     ds = spec.model.design_space
-    box_x = box_y = None
-    if ds is not None:
-        if ds.wing_loading is not None:
-            box_x = (float(ds.wing_loading[0]), float(ds.wing_loading[1]))
-        yb = ds.power_to_weight if spec.is_propeller else ds.thrust_to_weight
-        if yb is not None:
-            box_y = (float(yb[0]), float(yb[1]))
-    lo, hi = box_x or (100.0, 15000.0)
-    coarse = np.geomspace(max(lo, 1.0), hi, 120)
-    curves = sample_requirements(spec, coarse, exact=False)
-    env = np.zeros_like(coarse)
-    bounds, minima = [], []
-    for t, lim in curves.values():
+    box_x = tuple(float(v) for v in ds.wing_loading) if ds and ds.wing_loading else None
+    yb = (ds.power_to_weight if spec.is_propeller else ds.thrust_to_weight) if ds else None
+    box_y = tuple(float(v) for v in yb) if yb else None
+    coarse = np.geomspace(max((box_x or (100.0,))[0], 1.0), (box_x or (0, 15000.0))[1], 120)
+    env, bounds, minima = np.zeros_like(coarse), [], []
+    for t, lim in sample_requirements(spec, coarse, exact=False).values():
         if t is not None:
-            tt = np.where(np.isfinite(t), t, np.inf)
-            env = np.maximum(env, tt)
+            env = np.maximum(env, np.where(np.isfinite(t), t, np.inf))
         b = _boundary(coarse, lim)
         if b is not None and np.isfinite(b):
             bounds.append(b)
     if result is not None and result.feasible:
-        W0 = result.design.wing_loading
-        Y0 = result.design.power_to_weight if result.propeller else result.design.thrust_to_weight
+        d = result.design
+        W0, Y0 = d.wing_loading, d.power_to_weight if result.propeller else d.thrust_to_weight
     else:
         W0 = min(bounds) if bounds else float(coarse[np.argmin(env)])
         Y0 = float(np.interp(W0, coarse, np.where(np.isfinite(env), env, np.nan)))
         if not np.isfinite(Y0):
             Y0 = 0.5 * (box_y[1] if box_y else (100.0 if spec.is_propeller else 2.0))
-    x_hi = 2.0 * W0
-    for b in bounds:
-        if b <= 3.0 * W0:
-            x_hi = max(x_hi, 1.12 * b)
-    x_hi = _nice_ceil(x_hi * u.x, x_hi * u.x / 8.0) / u.x
+    x_hi = max([2.0 * W0] + [1.12 * b for b in bounds if b <= 3.0 * W0])    # show nearby limits
+    x_hi = _nice_ceil(x_hi * u.x) / u.x
     x_range = box_x or (0.0, x_hi)
     look = np.linspace(max(x_range[0], x_range[1] / 60), x_range[1], 40)
     for t, lim in sample_requirements(spec, look, exact=False).values():
         if t is not None and np.any(np.isfinite(t)):
             minima.append(float(np.nanmin(np.where(np.isfinite(t), t, np.nan))))
     y_hi = max(1.9 * Y0, 1.2 * max(minima, default=0.0), 1e-6)
-    y_hi = _nice_ceil(y_hi * u.y, y_hi * u.y / 8.0) / u.y
+    y_hi = _nice_ceil(y_hi * u.y) / u.y
     return x_range, box_y or (0.0, y_hi)
 
 
@@ -319,10 +289,8 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
     W_S = np.linspace(x0, x_range[1], int(samples))
     sampled = sample_requirements(spec, W_S)
     active = {r.id for r in result.requirements if r.active}
-    curves = []
-    for i, (rid, (t, lim)) in enumerate(sampled.items()):
-        kind = spec.requirement(rid).kind
-        curves.append(Curve(rid, kind, i, rid in active, t, lim, _boundary(W_S, lim)))
+    curves = [Curve(rid, spec.requirement(rid).kind, i, rid in active, t, lim, _boundary(W_S, lim))
+              for i, (rid, (t, lim)) in enumerate(sampled.items())]
     mW = np.linspace(x0, x_range[1], grid[0])
     mY = np.linspace(y_range[0], y_range[1], grid[1])
     mass, rest = closure_mass_grid(spec, mW, mY, residual=True)
@@ -353,12 +321,9 @@ def curves_csv(data: DiagramData) -> str:
         if c.thrust is not None:
             cols.append(c.thrust)
             names.append(c.id)
-            if c.limit is not None:
-                cols.append(c.limit)
-                names.append(f"{c.id}:wing_loading_limit_Pa")
-        elif c.limit is not None:
+        if c.limit is not None:
             cols.append(c.limit)
-            names.append(c.id)
+            names.append(c.id if c.thrust is None else f"{c.id}:wing_loading_limit_Pa")
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(names)
@@ -388,9 +353,7 @@ class DiagramHandles:
     data: DiagramData | None = None
 
     def _repr_png_(self):       # notebooks show the figure
-        buf = io.BytesIO()
-        self.figure.savefig(buf, format="png", dpi=100)
-        return buf.getvalue()
+        return figure_bytes(self.figure, "png", dpi=100)
 
 
 class _Placer:
@@ -416,11 +379,8 @@ class _Placer:
             w, h = max(w, lw), h + lh * 1.25
         return w * k + 2 * pad * k, h * k + 2 * pad * k
 
-    def to_px(self, x, y):
-        return self.ax.transData.transform(np.column_stack([x, y]))
-
     def add_line(self, key, x, y):
-        p = self.to_px(x, y)
+        p = self.ax.transData.transform(np.column_stack([x, y]))
         p = p[np.all(np.isfinite(p), axis=1)]
         if len(p) > 1:
             seg = np.linalg.norm(np.diff(p, axis=0), axis=1)
@@ -437,10 +397,8 @@ class _Placer:
             return math.inf
         c = 0.0
         for t in self.taken:
-            ox = min(x1, t[2]) - max(x0, t[0])
-            oy = min(y1, t[3]) - max(y0, t[1])
-            if ox > 0 and oy > 0:
-                c += 1000.0 + ox * oy
+            ox, oy = min(x1, t[2]) - max(x0, t[0]), min(y1, t[3]) - max(y0, t[1])
+            c += (1000.0 + ox * oy) if ox > 0 and oy > 0 else 0.0
         x0, y0, x1, y1 = x0 - margin, y0 - margin, x1 + margin, y1 + margin
         for key, p in self.lines.items():
             if key == own or (isinstance(key, tuple) and key[0] == "hatch" and key[1] == own):
@@ -460,7 +418,7 @@ class _Placer:
 
         Beside: above the line, or on its feasible side horizontally (left of
         a rising curve or a vertical limit, right of a falling one). Returns
-        (centre x, centre y, rect) in pixels, or None if nowhere fits.
+        (centre x, centre y, rect, cost) in pixels, or None if nowhere fits.
         """
         p = self.lines.get(key)
         if p is None or len(p) == 0:
@@ -490,7 +448,7 @@ class _Placer:
                     mine = (p[:, 0] >= x0) & (p[:, 0] <= x1) & (p[:, 1] >= y0) & (p[:, 1] <= y1)
                     c += 60.0 * np.count_nonzero(mine) ** 0.5
                 if c < best_c:
-                    best, best_c = ((rect[0] + rect[2]) / 2, (rect[1] + rect[3]) / 2, rect), c
+                    best, best_c = ((rect[0] + rect[2]) / 2, (rect[1] + rect[3]) / 2, rect, c), c
         return best
 
     def free_spot(self, w, h, points, pad=6.0):
@@ -504,6 +462,18 @@ class _Placer:
         return best if best_c < 100.0 else None
 
 
+def _put(ax, placer, spot, text, **style):
+    """Write text centred on a placer spot (pixels) and reserve its box."""
+    x, y = ax.transData.inverted().transform(spot[:2])
+    placer.take(spot[2])
+    return ax.text(x, y, text, ha="center", va="center", zorder=style.pop("zorder", 5), **style)
+
+
+def _thin(poly):
+    if hasattr(poly, "set_hatch_linewidth"):      # matplotlib >= 3.10; else the rc default
+        poly.set_hatch_linewidth(0.8)
+
+
 def _style(i):
     return PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)], LINESTYLES[(i // len(PALETTE)) % len(LINESTYLES)]
 
@@ -511,9 +481,7 @@ def _style(i):
 def _fmt(v, digits=3):
     if not np.isfinite(v):
         return "n/a"
-    if abs(v) >= 1000:
-        return f"{v:,.0f}"
-    return f"{v:.{digits}g}" if abs(v) >= 1 else f"{v:.{digits}f}"
+    return f"{v:,.0f}" if abs(v) >= 1000 else (f"{v:.{digits}g}" if abs(v) >= 1 else f"{v:.{digits}f}")
 
 
 def _mass_levels(mass, m_ref):
@@ -522,10 +490,7 @@ def _mass_levels(mass, m_ref):
         return []
     if not (m_ref and np.isfinite(m_ref)):
         m_ref = float(np.percentile(finite, 20))
-    lo, hi = max(float(finite.min()), 0.55 * m_ref), min(float(finite.max()), 2.2 * m_ref)
-    if not hi > lo:
-        return []
-    lo, hi = max(lo, 0.6 * m_ref), min(hi, 1.6 * m_ref)
+    lo, hi = max(float(finite.min()), 0.6 * m_ref), min(float(finite.max()), 1.6 * m_ref)
     step = _nice(0.12 * m_ref)
     return [v for v in np.arange(math.ceil(lo / step) * step, hi, step)
             if abs(v - m_ref) > 0.25 * step][:12]
@@ -566,17 +531,16 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     h = DiagramHandles(figure=fig, ax=ax, data=data)
     X = data.W_S * u.x
     (xl, xh), (yl, yh) = (v * u.x for v in data.x_range), (v * u.y for v in data.y_range)
-    ax.set_xlim(xl, xh)
-    ax.set_ylim(yl, yh)
+    ax.set(xlim=(xl, xh), ylim=(yl, yh))
     ax.tick_params(labelsize=FONT["tick"])
     ax.set_xlabel(f"wing loading  W/S  [{u.x_unit}]", fontsize=FONT["axis"])
     what = "power-to-weight  P/W" if data.propeller else "thrust-to-weight  T/W"
     ax.set_ylabel(f"sea-level {what}  [{u.y_unit}]", fontsize=FONT["axis"])
     ax.grid(True, color="#d9d9d9", linewidth=0.6, zorder=0)
     ax.set_axisbelow(True)
-    if units == "si":
-        top = ax.secondary_xaxis("top", functions=(lambda x: x / g0, lambda x: x * g0))
-        top.tick_params(labelsize=FONT["tick"] - 1, colors="#555555")
+    if units == "si":      # the same axes in kg/m^2 and kW/kg, for those who think in mass
+        ax.secondary_xaxis("top", functions=(lambda x: x / g0, lambda x: x * g0)).tick_params(
+            labelsize=FONT["tick"] - 1, colors="#555555")
         ax.text(1.008, 1.012, "kg/m²", transform=ax.transAxes, fontsize=FONT["tick"] - 1,
                 color="#555555", ha="left", va="bottom")
         if data.propeller:
@@ -603,34 +567,28 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     lw = {True: 2.8, False: 1.6}
     for c in data.curves:
         colour, marker, ls = _style(c.index)
+        hatch_kw = dict(facecolor="none", edgecolor=colour, linewidth=0.0, alpha=0.55, zorder=2)
         if c.thrust is not None:
             Yd = np.where(np.isfinite(c.thrust), c.thrust * u.y, np.nan)
             Yd = np.where(Yd < clip_hi, Yd, np.nan)
-            line, = ax.plot(X, Yd, color=colour, lw=lw[c.active], ls=ls, marker=marker, markersize=5.5,
-                            markevery=(0.06 + 0.035 * (c.index % 5), 0.22), markerfacecolor="white",
-                            markeredgewidth=1.3, zorder=3 + c.active, solid_capstyle="round")
-            h.curves[c.id] = line
+            h.curves[c.id], = ax.plot(X, Yd, color=colour, lw=lw[c.active], ls=ls, marker=marker,
+                                      markersize=5.5, markevery=(0.06 + 0.035 * (c.index % 5), 0.22),
+                                      markerfacecolor="white", markeredgewidth=1.3, zorder=3 + c.active)
             placer.add_line(c.id, X, Yd)
             band = 0.028 * y_span
             placer.add_line(("hatch", c.id), X, Yd - 0.6 * band)
             if hatch:
-                poly = ax.fill_between(X, Yd - band, Yd, facecolor="none", edgecolor=colour, hatch="////",
-                                       linewidth=0.0, alpha=0.55, zorder=2)
-                poly.set_hatch_linewidth(0.8)
-        if c.boundary is not None and np.isfinite(c.boundary):
+                _thin(ax.fill_between(X, Yd - band, Yd, hatch="////", **hatch_kw))
+        if c.boundary is not None and xl <= c.boundary * u.x <= xh:
             b = c.boundary * u.x
-            key = c.id if c.thrust is None else f"{c.id}:limit"
-            lw_l = lw[c.active] if c.thrust is None else 1.3
-            line = ax.axvline(b, color=colour, lw=lw_l, ls="-" if c.thrust is None else (0, (5, 2.5)),
-                              zorder=3 + c.active)
-            h.limits[c.id] = line
-            placer.add_line(key, np.full(50, b), np.linspace(yl, yh, 50))
+            alone = c.thrust is None        # a pure W/S limit; else the lift limit of a thrust kind
+            h.limits[c.id] = ax.axvline(b, color=colour, lw=lw[c.active] if alone else 1.3,
+                                        ls="-" if alone else (0, (5, 2.5)), zorder=3 + c.active)
+            placer.add_line(c.id if alone else f"{c.id}:limit", np.full(50, b), np.linspace(yl, yh, 50))
             if hatch:
-                poly = ax.fill_betweenx([yl, yh], b, b + 0.016 * x_span, facecolor="none", edgecolor=colour,
-                                        hatch="\\\\\\\\", linewidth=0.0, alpha=0.55, zorder=2)
-                poly.set_hatch_linewidth(0.8)
-    for m, line in h.mass_lines:
-        placer.add_line(("mass", m), line.get_xdata(), line.get_ydata())
+                _thin(ax.fill_betweenx([yl, yh], b, b + 0.016 * x_span, hatch="\\\\\\\\", **hatch_kw))
+    for k, (m, line) in enumerate(h.mass_lines):
+        placer.add_line(("mass", m, k), line.get_xdata(), line.get_ydata())
 
     # design point (placed first so labels keep clear of it)
     if data.design is not None:
@@ -642,7 +600,11 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     if mass_lines:
         h.no_closure = _draw_no_closure(ax, data, u, placer)
     if h.feasible is not None:
-        _label_feasible(ax, data, u, placer, env, lim)
+        WW, YY = np.meshgrid(data.mass_W_S, data.mass_Y)
+        with np.errstate(invalid="ignore"):
+            ok = np.isfinite(data.mass) & (YY >= np.interp(WW, data.W_S, env)) & (WW <= lim)
+        _label_region(ax, placer, data, u, ok, "feasible", fontsize=FONT["label"], color="#4a6b85",
+                      style="italic")
     if mass_lines:
         _label_mass_lines(ax, h, placer, u)
     if title:
@@ -658,14 +620,11 @@ def _draw_mass_lines(ax, data, u, h):
     mass = data.mass * u.mass
     m_ref = data.design[2] * u.mass if data.design else None
     gen = contourpy.contour_generator(data.mass_W_S * u.x, data.mass_Y * u.y, mass)
-    for level in _mass_levels(mass, m_ref):
+    levels = [(v, MASS_COLOUR, 0.9) for v in _mass_levels(mass, m_ref)] + ([(m_ref, DESIGN_COLOUR, 1.2)] if m_ref else [])
+    for level, colour, lw in levels:
         for seg in gen.lines(level):
-            line, = ax.plot(seg[:, 0], seg[:, 1], color=MASS_COLOUR, lw=0.9, ls=(0, (4, 3)), zorder=1)
+            line, = ax.plot(seg[:, 0], seg[:, 1], color=colour, lw=lw, ls=(0, (4, 3)), zorder=1 + (lw > 1))
             h.mass_lines.append((float(level), line))
-    if m_ref:
-        for seg in gen.lines(m_ref):
-            line, = ax.plot(seg[:, 0], seg[:, 1], color=DESIGN_COLOUR, lw=1.2, ls=(0, (4, 3)), zorder=1.2)
-            h.mass_lines.append((float(m_ref), line))
 
 
 def _draw_no_closure(ax, data, u, placer):
@@ -676,87 +635,57 @@ def _draw_no_closure(ax, data, u, placer):
     rest = np.where(np.isfinite(data.closure_rest), data.closure_rest, -1.0)
     cs = ax.contourf(data.mass_W_S * u.x, data.mass_Y * u.y, rest, levels=[-1e9, 1e-3],
                      colors=[NO_CLOSURE_FILL], zorder=0.6)
-    pts = [ax.transData.transform((x * u.x, y * u.y))
-           for j, y in enumerate(data.mass_Y[::8]) for i, x in enumerate(data.mass_W_S[::8])
-           if bad[j * 8, i * 8]]
-    text = "weight does not close"
-    w, hh = placer.size(text, FONT["mass"])
-    spot = placer.free_spot(w, hh, pts)
-    if spot is not None:
-        x, y = ax.transData.inverted().transform(spot[:2])
-        ax.text(x, y, text, fontsize=FONT["mass"], color="#6b6b6b", ha="center", va="center", zorder=5)
-        placer.take(spot[2])
+    _label_region(ax, placer, data, u, bad, "weight does not close", fontsize=FONT["mass"], color=MASS_COLOUR)
     return cs
 
 
-def _label_feasible(ax, data, u, placer, env, lim):
-    """Name the filled region in its least crowded spot."""
-    pts = []
-    yl, yh = data.y_range
-    for x, e in zip(data.W_S[::6], env[::6]):
-        if x <= lim and np.isfinite(e) and e < yh:
-            for f in (0.25, 0.5, 0.75):
-                y = e + f * (yh - e)
-                i = np.searchsorted(data.mass_W_S, x).clip(0, data.mass_W_S.size - 1)
-                j = np.searchsorted(data.mass_Y, y).clip(0, data.mass_Y.size - 1)
-                if np.isfinite(data.mass[j, i]):
-                    pts.append(ax.transData.transform((x * u.x, y * u.y)))
-    w, hh = placer.size("feasible", FONT["label"])
-    spot = placer.free_spot(w, hh, pts)
+def _label_region(ax, placer, data, u, ok, text, **style):
+    """Name a region (a mask on the mass grid) in its least crowded spot."""
+    WW, YY = (g[::6, ::6] for g in np.meshgrid(data.mass_W_S, data.mass_Y))
+    ok = ok[::6, ::6]
+    pts = ax.transData.transform(np.column_stack([WW[ok] * u.x, YY[ok] * u.y]))
+    spot = placer.free_spot(*placer.size(text, style["fontsize"]), pts)
     if spot is not None:
-        x, y = ax.transData.inverted().transform(spot[:2])
-        ax.text(x, y, "feasible", fontsize=FONT["label"], color="#4a6b85", style="italic",
-                ha="center", va="center", zorder=5)
-        placer.take(spot[2])
+        _put(ax, placer, spot, text, **style)
 
 
 def _label_mass_lines(ax, h, placer, u):
-    done = set()
-    for m, line in h.mass_lines:
-        if m in done:
-            continue
-        is_design = h.data.design is not None and abs(m - h.data.design[2] * u.mass) < 1e-6 * m
+    """One inline label per mass level, on the least crowded of its line pieces."""
+    for m in dict.fromkeys(m for m, _ in h.mass_lines):
         text = f"{_fmt(m)} {u.mass_unit}"
-        w, hh = placer.size(text, FONT["mass"])
-        spot = placer.along(("mass", m), w, hh, prefer=0.9, spread=0.35)
-        if spot is None or placer.cost(spot[2], own=("mass", m)) >= 1000.0:
-            continue
-        cx, cy, rect = spot
-        x, y = ax.transData.inverted().transform((cx, cy))
-        ax.text(x, y, text, fontsize=FONT["mass"], color=DESIGN_COLOUR if is_design else MASS_COLOUR,
-                style="italic", ha="center", va="center", zorder=5,
-                bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.9))
-        placer.take(rect)
-        done.add(m)
+        spots = [placer.along(("mass", m, k), *placer.size(text, FONT["mass"]), prefer=0.9, spread=0.35)
+                 for k, (mk, _) in enumerate(h.mass_lines) if mk == m]
+        spots = [sp for sp in spots if sp is not None and sp[3] < 1000.0]
+        if spots:
+            is_design = h.data.design is not None and abs(m - h.data.design[2] * u.mass) < 1e-6 * m
+            _put(ax, placer, min(spots, key=lambda sp: sp[3]), text, fontsize=FONT["mass"], style="italic",
+                 color=DESIGN_COLOUR if is_design else MASS_COLOUR,
+                 bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.9))
 
 
 def _label_curves(ax, data, h, placer):
-    order = sorted(data.curves, key=lambda c: (not c.active, c.index))
-    for c in order:
-        colour, _m, _ls = _style(c.index)
-        weight = "bold" if c.active else "normal"
-        items = []
-        if c.thrust is not None and c.id in h.curves:
-            items.append((c.id, c.id, 0))
+    """Each id beside its curve or limit line (drivers first, in bold and boxed)."""
+    missing = []
+    for c in sorted(data.curves, key=lambda c: (not c.active, c.index)):
+        colour, weight = _style(c.index)[0], "bold" if c.active else "normal"
+        items = [(c.id, c.id, 0)] if c.thrust is not None else []
         if c.id in h.limits:
-            items.append((c.id if c.thrust is None else f"{c.id}:limit",
-                          c.id if c.thrust is None else f"{c.id} CLmax", 90))
+            items.append((c.id, c.id, 90) if c.thrust is None else (f"{c.id}:limit", f"{c.id} CLmax", 90))
         for key, text, rot in items:
             w, hh = placer.size(text, FONT["label"], weight)
-            if rot:
-                w, hh = hh, w
-            spot = placer.along(key, w, hh, prefer=0.82 if rot else 0.5, spread=0.3 if rot else 0.35,
-                                side=True)
+            spot = placer.along(key, *((hh, w) if rot else (w, hh)), prefer=0.82 if rot else 0.5,
+                                spread=0.3 if rot else 0.35, side=True)
             if spot is None:
+                missing += [c.id] if len(items) == 1 or key.endswith(":limit") and c.id not in h.labels else []
                 continue
-            cx, cy, rect = spot
-            x, y = ax.transData.inverted().transform((cx, cy))
-            t = ax.text(x, y, text, fontsize=FONT["label"], color=colour, fontweight=weight, rotation=rot,
-                        ha="center", va="center", zorder=6, rotation_mode="anchor",
-                        bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=colour if c.active else "none",
-                                  lw=0.8, alpha=0.92))
-            h.labels[key] = t
-            placer.take(rect)
+            h.labels[key] = _put(ax, placer, spot, text, fontsize=FONT["label"], color=colour, zorder=6,
+                                 fontweight=weight, rotation=rot, rotation_mode="anchor",
+                                 bbox=dict(boxstyle="round,pad=0.2", fc="white", lw=0.8, alpha=0.92,
+                                           ec=colour if c.active else "none"))
+    if missing:     # still named on the plot, never silently dropped
+        h.labels["outside"] = ax.text(0.01, 0.99, "outside the plotted range: " + ", ".join(dict.fromkeys(missing)),
+                                      transform=ax.transAxes, ha="left", va="top", fontsize=FONT["mass"],
+                                      color="#444444", zorder=6)
 
 
 def _draw_design(ax, data, u, h, placer):
@@ -766,32 +695,26 @@ def _draw_design(ax, data, u, h, placer):
                               markeredgecolor=DESIGN_COLOUR, markeredgewidth=2.4, zorder=8, ls="none")
     ax.plot([x], [y], marker="o", markersize=4.5, color=DESIGN_COLOUR, zorder=9, ls="none")
     ylab = "P/W" if data.propeller else "T/W"
-    yval = f"{Y * u.y:.3g} {u.y_unit}" if data.propeller else f"{Y:.3f}"
+    yval = (f"{Y * u.y:.4f} {u.y_unit}" if u.y != 1.0 else f"{Y:.1f} {u.y_unit}") if data.propeller else f"{Y:.3f}"
     lines = ["design point", f"W/S  {_fmt(x)} {u.x_unit}", f"{ylab}  {yval}", f"m_TO  {_fmt(m * u.mass)} {u.mass_unit}"]
     if data.on_edge:
         lines.append("on the search-region edge")
     text = "\n".join(lines)
     w, hh = placer.size(text, FONT["design"], "bold", pad=6)
     px, py = ax.transData.transform((x, y))
-    best, best_c = None, math.inf
+    cands = []       # around the point, nearer and above preferred
     for dist in (70, 110, 160):
-        for ang in range(0, 360, 30):
-            a = math.radians(ang)
+        for a in np.radians(np.arange(0, 360, 30)):
             cx, cy = px + (dist + w / 2) * math.cos(a), py + (dist + hh / 2) * math.sin(a)
             rect = (cx - w / 2, cy - hh / 2, cx + w / 2, cy + hh / 2)
-            c = placer.cost(rect) + 0.3 * dist + (20.0 if math.sin(a) < 0 else 0.0)
-            if c < best_c:
-                best, best_c = (cx, cy, rect), c
-    if best is None:
-        best = (px + 80 + w / 2, py + 80, (px + 80, py + 80 - hh / 2, px + 80 + w, py + 80 + hh / 2))
-    cx, cy, rect = best
+            cands.append((placer.cost(rect) + 0.3 * dist + 20.0 * (math.sin(a) < 0), cx, cy, rect))
+    _c, cx, cy, rect = min(cands, key=lambda t: t[0])
     tx, ty = ax.transData.inverted().transform((cx, cy))
     h.design_label = ax.annotate(
         text, xy=(x, y), xytext=(tx, ty), textcoords="data", ha="center", va="center",
         fontsize=FONT["design"], zorder=10, linespacing=1.3,
         bbox=dict(boxstyle="round,pad=0.45", fc="white", ec=DESIGN_COLOUR, lw=1.2),
         arrowprops=dict(arrowstyle="-", color=DESIGN_COLOUR, lw=1.2, shrinkA=0, shrinkB=7))
-    h.design_label.get_bbox_patch()   # keep a handle on the box
     placer.take(rect)
     placer.take((px - 14, py - 14, px + 14, py + 14))
 
@@ -806,16 +729,14 @@ def _draw_no_design(ax, data, placer):
             lines.append(f"relax {rid}: {rel.get('field', 'value')} -> {rel.get('text', '?')}")
     elif inf is not None and inf.explanation:
         lines += textwrap.wrap(inf.explanation, 60)
-    t = ax.text(0.5, 0.93, lines[0], transform=ax.transAxes, ha="center", va="top", zorder=10,
-                fontsize=FONT["banner"], fontweight="bold", color=PALETTE[1],
-                bbox=dict(boxstyle="round,pad=0.4", fc="white", ec=PALETTE[1], lw=1.5))
-    if len(lines) > 1:
-        ax.text(0.5, 0.83, "\n".join(lines[1:]), transform=ax.transAxes, ha="center", va="top",
-                zorder=10, fontsize=FONT["design"], bbox=dict(boxstyle="round,pad=0.4", fc="white",
-                                                               ec="#999999", lw=0.8))
+    for y, text, size, ec in ((0.93, lines[0], FONT["banner"], PALETTE[1]),
+                              (0.83, "\n".join(lines[1:]), FONT["design"], "#999999")):
+        if text:
+            ax.text(0.5, y, text, transform=ax.transAxes, ha="center", va="top", zorder=10, fontsize=size,
+                    fontweight="bold" if ec == PALETTE[1] else "normal", color=ec if ec == PALETTE[1] else "black",
+                    bbox=dict(boxstyle="round,pad=0.4", fc="white", ec=ec, lw=1.2))
     bx0, by0, bx1, by1 = placer.box
     placer.take((bx0 + 0.2 * (bx1 - bx0), by0 + 0.62 * (by1 - by0), bx1 - 0.2 * (bx1 - bx0), by1))
-    return t
 
 
 def _draw_title(ax, fig, data, own):
@@ -873,8 +794,6 @@ def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI) -> list:
                          f"use one of {', '.join(FORMATS)}", str(output), field="--output")
     h = constraint_diagram(spec, result=res, units=units)
     atomic_write(out, figure_bytes(h.figure, fmt, dpi), "wb")
-    written = [str(out)]
     if data:
         atomic_write(Path(data), curves_csv(h.data), "w")
-        written.append(str(data))
-    return written
+    return [str(out)] + ([str(data)] if data else [])
