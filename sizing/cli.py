@@ -6,6 +6,7 @@ infeasible requirement set; 1 anything else. No traceback unless --debug.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 
 EXIT_OK, EXIT_ERROR, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
@@ -18,39 +19,43 @@ def _parser() -> argparse.ArgumentParser:
                     "closure and the lightest design point that meets every requirement.")
     p.add_argument("--debug", action="store_true", help="show tracebacks")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    # --debug is accepted after the command too (``sizing solve f.yaml --debug``)
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help="show tracebacks")
 
-    s = sub.add_parser("solve", help="solve: design point, drivers, costs, margins")
+    s = sub.add_parser("solve", parents=[common], help="solve: design point, drivers, costs, margins")
     s.add_argument("file")
     s.add_argument("--json", action="store_true", help="print the result as one JSON object")
 
-    d = sub.add_parser("diagram", help="constraint diagram (PNG, SVG, PDF by suffix)")
+    d = sub.add_parser("diagram", parents=[common], help="constraint diagram (PNG, SVG, PDF by suffix)")
     d.add_argument("file")
     d.add_argument("-o", "--output", default="diagram.png")
     d.add_argument("--data", help="also write the sampled curves as CSV")
     d.add_argument("--units", choices=("si", "us"), default="si")
 
-    st = sub.add_parser("study", help="trade study: sweeps or Monte Carlo sampling")
+    st = sub.add_parser("study", parents=[common], help="trade study: sweeps or Monte Carlo sampling")
     st.add_argument("file")
     st.add_argument("-o", "--output", default="out")
     st.add_argument("--workers", type=int, default=None, help="local processes (default: all cores)")
     st.add_argument("--dask", metavar="ADDRESS", help="run on a Dask distributed scheduler")
     st.add_argument("--limit", type=int, default=None, help="run only the first N points (quick checks)")
 
-    e = sub.add_parser("envelope", help="altitude-Mach envelope check of the sized design")
+    e = sub.add_parser("envelope", parents=[common], help="altitude-Mach envelope check of the sized design")
     e.add_argument("file")
     e.add_argument("-o", "--output", default="envelope.png")
     e.add_argument("--data", help="also write the envelope table as CSV")
     e.add_argument("--weight-fraction", type=float, default=None)
 
-    r = sub.add_parser("report", help="self-contained review report (HTML or Markdown)")
+    r = sub.add_parser("report", parents=[common], help="self-contained review report (HTML or Markdown)")
     r.add_argument("file")
     r.add_argument("-o", "--output", default="review.html")
     r.add_argument("--format", choices=("html", "md"), default=None)
 
-    c = sub.add_parser("check", help="validate a requirement file only")
+    c = sub.add_parser("check", parents=[common], help="validate a requirement file only")
     c.add_argument("file")
 
-    sub.add_parser("schema", help="print the JSON Schema of requirement files")
+    sc = sub.add_parser("schema", parents=[common], help="print the JSON Schema of requirement files (for editors)")
+    sc.add_argument("-o", "--output", default=None, help="write it to this file instead of printing it")
     return p
 
 
@@ -89,7 +94,14 @@ def cmd_schema(args) -> int:
 
     from .spec import json_schema
 
-    print(json.dumps(json_schema(), indent=2))
+    text = json.dumps(json_schema(), indent=2) + "\n"
+    if args.output:
+        from .fileio import atomic_write
+
+        atomic_write(args.output, text, "w")
+        print(f"wrote {args.output}")
+    else:
+        sys.stdout.write(text)
     return EXIT_OK
 
 
@@ -140,25 +152,32 @@ COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagr
 
 def main(argv=None) -> int:
     args = _parser().parse_args(argv)
+    debug = getattr(args, "debug", False)
     from .errors import InputError, SizingError
 
     try:
         return COMMANDS[args.command](args)
     except InputError as e:
-        if args.debug:
+        if debug:
             raise
         print(f"error: {e.describe()}", file=sys.stderr)
         return EXIT_INPUT
     except SizingError as e:
-        if args.debug:
+        if debug:
             raise
         print(f"error: {e}", file=sys.stderr)
         return EXIT_ERROR
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return EXIT_ERROR
+    except BrokenPipeError:      # output piped into head and the like
+        try:
+            sys.stdout = open(os.devnull, "w")
+        except OSError:
+            pass
+        return EXIT_ERROR
     except Exception as e:  # noqa: BLE001 - the CLI never shows a traceback without --debug
-        if args.debug:
+        if debug:
             raise
         print(f"error: unexpected failure ({type(e).__name__}: {e}); rerun with --debug for details",
               file=sys.stderr)

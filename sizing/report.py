@@ -151,11 +151,20 @@ def as_dict(result) -> dict:
             "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
             "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
         } for r in result.requirements]
+    if d is None:
+        # infeasible: every requirement listed, none active, no margin or cost (there is no design)
+        reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
+        out["drivers"] = []
+        out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
+                                "sensitivity": None} for r in reqs]
     if result.infeasibility is not None:
         inf = result.infeasibility
+        rel = inf.relaxations
         out["infeasibility"] = {"conflicts": list(inf.conflicts),
-                                "relaxations": {k: v["value"] for k, v in inf.relaxations.items()},
-                                "relaxation_units": {k: v["unit"] for k, v in inf.relaxations.items()},
+                                "relaxations": {k: v["value"] for k, v in rel.items()},
+                                "relaxation_units": {k: v["unit"] for k, v in rel.items()},
+                                "relaxation_text": {k: v.get("text", "") for k, v in rel.items()},
+                                "together": any(v.get("together", False) for v in rel.values()),
                                 "explanation": inf.explanation}
     return out
 
