@@ -418,7 +418,7 @@ def required_curve(req, ac, W_S, samples=240, refine=40):
     P_SL/W_TO) per W_S, minimised over the free speed where the kind has one
     (dense scan from stall to the speed limit, then golden-section
     refinement); ``inf`` where no speed works; None where the kind sets no
-    such bound.
+    such bound. ``req.beta`` may be a number or an array over ``W_S``.
     """
     W_S = np.atleast_1d(np.asarray(W_S, dtype=float))
     kind = KINDS[req.kind]
@@ -434,8 +434,15 @@ def required_curve(req, ac, W_S, samples=240, refine=40):
     u = np.linspace(0.0, 1.0, samples)
     V = V_lo[:, None] + u[None, :] * np.maximum(V_hi - V_lo, 0.0)[:, None]
 
+    beta = np.asarray(req.beta, dtype=float)
+    req2 = req
+    if beta.ndim and beta.size > 1:       # a weight fraction per wing loading (mission `after:`)
+        req2 = SimpleNamespace(**{**vars(req), "beta": beta.reshape(-1)[:, None]})
+
     def f(Vx):
-        return np.asarray(evaluate(req, ac, W_S[:, None] if Vx.ndim == 2 else W_S, Vx).thrust, float)
+        if Vx.ndim == 2:
+            return np.asarray(evaluate(req2, ac, W_S[:, None], Vx).thrust, float)
+        return np.asarray(evaluate(req, ac, W_S, Vx).thrust, float)
 
     T = f(V)
     T = np.where(np.isfinite(T) & (T > 0), T, np.inf)

@@ -257,3 +257,15 @@ def test_every_design_kind_has_a_function_with_source():
     assert set(C.KINDS) == design_kinds
     for k in C.KINDS.values():
         assert k.reference and k.function.__doc__
+
+
+def test_required_curve_accepts_a_weight_fraction_per_wing_loading():
+    # common practice, no source: a beta array over W/S gives the same curve as point by point
+    ac = aircraft()
+    W = np.array([1500.0, 3000.0, 4500.0])
+    betas = np.array([0.95, 0.9, 0.85])
+    d = {"id": "c", "kind": "ceiling", "altitude": 11000.0}
+    whole, _, _ = C.required_curve(M.requirement(d, ac, betas), ac, W)
+    for i in range(3):
+        one, _, _ = C.required_curve(M.requirement(d, ac, float(betas[i])), ac, W[i:i + 1])
+        assert whole[i] == pytest.approx(one[0], rel=1e-9)
