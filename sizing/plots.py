@@ -127,13 +127,6 @@ def _segment_betas(tree, ac, W_S):
         return {name: np.asarray(be, float) + 0.0 * W_S for name, _f, be in Wt.mission_fractions(tree, ac, W_S)}
 
 
-def _pointwise(r, ac):
-    """True when the weight fraction follows the mission (varies with W/S) and the
-    speed is free: required_curve then takes one wing loading at a time."""
-    return (isinstance(r.get("weight_fraction"), dict)
-            and C.KINDS[r["kind"]].has_free_speed(M.requirement(r, ac, 1.0)))
-
-
 def _sample(r, ac, W_S, seg):
     """(thrust, limit) of one requirement at W_S, betas as the solver uses them.
 
@@ -144,14 +137,7 @@ def _sample(r, ac, W_S, seg):
     wf = r.get("weight_fraction")
     beta = seg.get(wf["after"]) if isinstance(wf, dict) else None
     with np.errstate(all="ignore"):
-        if beta is None or not _pointwise(r, ac):
-            t, lim, _ = C.required_curve(M.requirement(r, ac, beta), ac, W_S)
-            return t, lim
-        # weight fraction varying with W/S and a free speed: one point at a time
-        pts = [C.required_curve(M.requirement(r, ac, float(b)), ac, np.array([w]))
-               for w, b in zip(W_S, beta)]
-    t = None if pts[0][0] is None else np.concatenate([p[0] for p in pts])
-    lim = None if pts[0][1] is None else np.concatenate([p[1] for p in pts])
+        t, lim, _ = C.required_curve(M.requirement(r, ac, beta), ac, W_S)
     return t, lim
 
 
@@ -269,9 +255,7 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
     spec : :class:`sizing.spec.Spec`
     result : :class:`sizing.model.Result`, or None to solve the spec first
     units : "si" or "us" (only the automatic axis rounding depends on it)
-    samples : number of wing loadings sampled for the curves (default 301, or
-        81 when a free-speed requirement's weight fraction follows the mission,
-        which is sampled one point at a time)
+    samples : number of wing loadings sampled for the curves (default 301)
     grid : (wing loadings, T/W values) of the constant-mass grid
     """
     u = _units(units, spec.is_propeller)
@@ -282,10 +266,7 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
     x_range, y_range = _ranges(spec, result, u)
     x0 = x_range[0] if x_range[0] > 0 else x_range[1] / 200.0
     if samples is None:
-        tree = M.spec_tree(spec)
-        ac = M.aircraft(tree)
-        slow = any(_pointwise(r, ac) for r in tree["requirements"].values())
-        samples = 81 if slow else 301
+        samples = 301
     W_S = np.linspace(x0, x_range[1], int(samples))
     sampled = sample_requirements(spec, W_S)
     active = {r.id for r in result.requirements if r.active}
