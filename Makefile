@@ -12,8 +12,12 @@ $(STAMP): pyproject.toml
 	$(BIN)/python -m pip install --quiet -e '.[test,dask]'
 	touch $(STAMP)
 
+DEMO := requirements/trainer-jet.yaml
+
 demo: $(STAMP)
-	$(BIN)/sizing solve requirements/trainer-jet.yaml
+	$(BIN)/sizing solve $(DEMO)
+	$(BIN)/sizing diagram $(DEMO) -o out/demo-diagram.png --data out/demo-curves.csv
+	$(BIN)/sizing report $(DEMO) -o out/demo-review.html
 
 test: $(STAMP)
 	$(BIN)/python -m pytest -q
