@@ -32,13 +32,19 @@ from .propulsion import ENGINE_TYPES, PROPELLER_TYPES
 # --------------------------------------------------------------------------
 
 
+# a number, then a unit (which starts with a letter or a symbol, or is 1/...)
+DIMENSIONAL = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*([^\s\d.+-]|1\s*/).*$"
+
+
 def _q(dim: str):
     d = units.DIMENSIONS[dim]
+    text = {"type": "string", "description": f"{d.name} with a unit, e.g. {d.examples}", "pattern": DIMENSIONAL}
+    if dim == "temperature_difference":      # a bare 0 needs no unit
+        text = {"anyOf": [text, {"const": 0}], "description": text["description"]}
     return Annotated[
         units.Quantity,
         BeforeValidator(lambda v, _d=dim: v if isinstance(v, units.Quantity) else units.parse(v, _d)),
-        WithJsonSchema({"type": "string", "description": f"{d.name} with a unit, e.g. {d.examples}",
-                        "pattern": r"^\s*[-+]?[0-9.]+([eE][-+]?[0-9]+)?\s*\S+"}),
+        WithJsonSchema(text),
     ]
 
 
@@ -68,7 +74,7 @@ def _mass_per_engine(v):
 
 
 EngineMass = Annotated[units.Quantity, BeforeValidator(_mass_per_engine),
-                       WithJsonSchema({"type": "string", "description": "mass per sea-level thrust "
+                       WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "mass per sea-level thrust "
                                        "('0.025 kg/N') or, for propeller aircraft, per power ('0.9 kg/kW')"})]
 
 
@@ -85,12 +91,14 @@ def _fuel_consumption(v):
 
 
 FuelConsumption = Annotated[units.Quantity, BeforeValidator(_fuel_consumption),
-                            WithJsonSchema({"type": "string", "description": "thrust-specific "
+                            WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "thrust-specific "
                                             "('0.9 1/h', '22 mg/(N*s)') or power-specific "
                                             "('0.45 lb/(hp*h)') fuel consumption"})]
 
 Fraction = Annotated[float, BeforeValidator(units.parse_fraction),
-                     WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": r"%\s*$"}]})]
+                     WithJsonSchema({"anyOf": [{"type": "number"},
+                                               {"type": "string", "pattern": r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*%?\s*$"}],
+                                     "description": "a number, or a percentage such as '6 %'"})]
 
 
 _NUMERIC = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$"
@@ -131,6 +139,22 @@ Number = Annotated[float, BeforeValidator(_number),
                    WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": _NUMERIC}]})]
 
 
+def _bounded(lo=None, hi=None, open_lo=False):
+    """A Number whose JSON Schema carries its plausible range (the validators check it too)."""
+    num: dict = {"type": "number"}
+    if lo is not None:
+        num["exclusiveMinimum" if open_lo else "minimum"] = lo
+    if hi is not None:
+        num["maximum"] = hi
+    return Annotated[float, BeforeValidator(_number),
+                     WithJsonSchema({"anyOf": [num, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+MachNumber = _bounded(0.0, 5.0, open_lo=True)
+LoadFactor = _bounded(0.0, 15.0, open_lo=True)
+LiftCoefficient = _bounded(0.2, 4.5)
+
+
 def _text(v):
     """Free text (title, note, names): numbers and dates are read as their text."""
     if isinstance(v, str):
@@ -158,6 +182,16 @@ Identifier = Annotated[str, BeforeValidator(_identifier), WithJsonSchema({"type"
 
 class Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True, arbitrary_types_allowed=True)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _no_empty_values(cls, data):
+        # "key:" with nothing after it is a slip, not a request for the default
+        if isinstance(data, dict):
+            for k, v in data.items():
+                if v is None and k in cls.model_fields:
+                    raise FieldError(k, "no value given; write a value, or remove the key to use the default")
+        return data
 
 
 class FieldError(ValueError):
@@ -245,9 +279,9 @@ class K1Table(_Table):
 
 
 class CLMax(Strict):
-    clean: Number = Field(description="clean-wing maximum lift coefficient")
-    takeoff: Optional[Number] = Field(None, description="takeoff flaps (default: clean)")
-    landing: Optional[Number] = Field(None, description="landing flaps (default: takeoff)")
+    clean: LiftCoefficient = Field(description="clean-wing maximum lift coefficient")
+    takeoff: Optional[LiftCoefficient] = Field(None, description="takeoff flaps (default: clean)")
+    landing: Optional[LiftCoefficient] = Field(None, description="landing flaps (default: takeoff)")
 
     @field_validator("clean", "takeoff", "landing")
     @classmethod
@@ -325,7 +359,7 @@ class Propulsion(Strict):
 
 
 class SpeedLimit(Strict):
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
 
     @model_validator(mode="after")
@@ -372,7 +406,7 @@ class EmptyStatistical(Strict):
     variable_sweep: bool = False
     b: Optional[Number] = Field(None, description="refined form: b of We/W0 = a + b W0^C1 A^C2 (T/W)^C3 (W/S)^C4 M^C5")
     exponents: Optional[list[Number]] = Field(None, description="refined form: C1..C5")
-    max_mach: Optional[Number] = None
+    max_mach: Optional[MachNumber] = None
 
     @model_validator(mode="after")
     def _given(self):
@@ -472,7 +506,7 @@ class FixedSegment(_Segment):
 class CruiseSegment(_Segment):
     kind: Literal["cruise"]
     range: Length
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
@@ -489,7 +523,7 @@ class CruiseSegment(_Segment):
 class LoiterSegment(_Segment):
     kind: Literal["loiter"]
     time: Time
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
@@ -506,8 +540,8 @@ class LoiterSegment(_Segment):
 class CombatSegment(_Segment):
     kind: Literal["combat", "maneuver"]
     time: Time
-    load_factor: Number = 1.0
-    mach: Optional[Number] = None
+    load_factor: LoadFactor = 1.0
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
@@ -588,21 +622,21 @@ class _Req(Strict):
 class StallSpeed(_Req):
     kind: Literal["stall-speed"]
     speed: Optional[Speed] = None
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     _needs_speed = True
 
 
 class SustainedTurn(_Req):
     kind: Literal["sustained-turn"]
-    load_factor: Number
-    mach: Optional[Number] = None
+    load_factor: LoadFactor
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     _needs_speed = True
 
 
 class MaxMach(_Req):
     kind: Literal["max-mach"]
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     _needs_speed = True
 
@@ -615,22 +649,22 @@ class Ceiling(_Req):
 class Climb(_Req):
     kind: Literal["climb"]
     climb_rate: Speed
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
 
 
 class ExcessPower(_Req):
     kind: Literal["excess-power"]
     excess_power: Speed
-    load_factor: Number = 1.0
-    mach: Optional[Number] = None
+    load_factor: LoadFactor = 1.0
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     _needs_speed = True
 
 
 class Cruise(_Req):
     kind: Literal["cruise"]
-    mach: Optional[Number] = None
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     throttle: Fraction = 1.0
     _needs_speed = True
@@ -645,8 +679,8 @@ class Cruise(_Req):
 
 class InstantaneousTurn(_Req):
     kind: Literal["instantaneous-turn"]
-    load_factor: Number
-    mach: Optional[Number] = None
+    load_factor: LoadFactor
+    mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     _needs_speed = True
 
@@ -840,11 +874,14 @@ def _yaml_with_lines(text: str, filename: str):
         mark = e.problem_mark or e.context_mark
         line = mark.line + 1 if mark else None
         problem = e.problem or str(e)
-        if e.context and "while" not in e.context:
-            problem = f"{e.context}: {problem}"
         hint = next((h for key, h in _YAML_HINTS if key in problem), "")
         col = f" (column {mark.column + 1})" if mark else ""
-        raise InputError(f"YAML syntax: {problem}{col}" + (f"; {hint}" if hint else ""), filename, line) from None
+        cm = e.context_mark
+        if e.context and cm is not None and mark is not None and cm.line != mark.line:
+            problem += f"{col}, {e.context} that starts on line {cm.line + 1}"
+        else:
+            problem += col
+        raise InputError(f"YAML syntax: {problem}" + (f"; {hint}" if hint else ""), filename, line) from None
     except yaml.reader.ReaderError as e:
         line = text.count("\n", 0, max(e.position, 0)) + 1
         raise InputError(f"not YAML text: character {e.character!r} cannot appear in a YAML file "
@@ -873,7 +910,7 @@ def _node_lines(root, filename):
             continue
         if id(n) in ancestors:
             raise InputError("an alias refers to a value that contains it (a cycle)", filename,
-                             n.start_mark.line + 1)
+                             n.start_mark.line + 1, _show_path(path))
         inner = ancestors | {id(n)}
         if isinstance(n, yaml.SequenceNode):
             for i, item in enumerate(n.value):
@@ -1318,8 +1355,38 @@ def load(path) -> Spec:
 
 
 def json_schema() -> dict:
-    """JSON Schema (draft 2020-12) of requirement files, from the same models."""
-    schema = RequirementFile.model_json_schema()
+    """JSON Schema (draft 2020-12) of requirement files, from the same models.
+
+    It checks what JSON Schema can express: key names, value types, the
+    kinds, models and engine types, the number-then-unit form of dimensional
+    values and the ranges of CLmax, Mach numbers and load factors. Units,
+    the other ranges and cross-field rules are checked by :func:`load` only.
+    """
+    schema = _no_nulls(RequirementFile.model_json_schema())
     schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
     schema["title"] = "sizing requirement file"
+    schema["description"] = ("Performance requirements and aircraft data for requirement-driven "
+                             "conceptual sizing (see DESIGN.md §4). Dimensional values are strings "
+                             "with a unit, e.g. '35000 ft', '250 kn'.")
     return schema
+
+
+def _no_nulls(node):
+    """Drop pydantic's ``{"type": "null"}`` alternatives and null defaults: an
+    empty value is an error in a requirement file (leave the key out instead)."""
+    if isinstance(node, dict):
+        out = {}
+        for k, v in node.items():
+            if k == "default" and v is None:
+                continue
+            if k == "anyOf" and isinstance(v, list):
+                v = [a for a in v if a != {"type": "null"}]
+                if len(v) == 1 and isinstance(v[0], dict):
+                    inner = _no_nulls(v[0])
+                    out.update({kk: vv for kk, vv in inner.items() if kk not in out})
+                    continue
+            out[k] = _no_nulls(v)
+        return out
+    if isinstance(node, list):
+        return [_no_nulls(v) for v in node]
+    return node
