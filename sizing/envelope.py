@@ -327,7 +327,6 @@ class RequirementPoint:
     value: float | None = None
     required: float | None = None
     better: int = +1
-    quantity: str = ""
     boundary: Boundary | None = None
 
 
@@ -363,10 +362,6 @@ class Envelope:
     points: tuple
     rows: tuple
     notes: tuple = ()
-
-    @property
-    def load_factors(self):
-        return tuple(b.n for b in self.turns)
 
     def to_frame(self):
         """The envelope table as a pandas DataFrame, one row per quantity."""
@@ -492,7 +487,7 @@ def _evaluate(r, res_r, ac, W_S, Y, mach_top):
     pt = dict(id=rid, kind=kind, mach=float(Mn), altitude=h, active=bool(res_r.active),
               met=bool(res_r.margin >= 0.0 and (not known or better * (value - required) >= -tol)),
               on_boundary=bool(res_r.active or (known and abs(value - required) <= tol)),
-              detail=res_r.detail, value=value, required=required, better=better, quantity=quantity,
+              detail=res_r.detail, value=value, required=required, better=better,
               conditions=_conditions_text(cond, r, is_propeller(ac.engine_type)))
     return pt, row, (fl, n_b, target) if kind in _OWN_BOUNDARY else None
 
@@ -613,7 +608,7 @@ def _differs(pt, env):
     c = b.cond if b is not None else None
     return b is not None and not (abs(c.beta - env.weight_fraction) < 1e-12 and c.temperature_offset == 0.0
                                   and b.target == 0.0 and c.thrust_lapse is None and c.config == "clean"
-                                  and c.throttle == 1.0 and (b.n == 1.0 or b.n in env.load_factors))
+                                  and c.throttle == 1.0 and (b.n == 1.0 or b.n in {t.n for t in env.turns}))
 
 
 def plot_envelope(env: Envelope, ax=None, **kwargs):
@@ -625,9 +620,8 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
     below the plot; True); title (str); caution (the caution line; True).
     ax: matplotlib Axes, or None for a new Agg figure.
 
-    Returns a dict of handles: figure, ax, region, level, stall, turns {n: Line2D},
-    contours, speed_limit, table_limit, ceilings, points {id: Line2D}, own {id: Line2D},
-    labels, legends, caution.
+    Returns a dict of handles: figure, ax, region, level, stall, turns {n: Line2D}, contours,
+    speed_limit, table_limit, ceilings, points {id: Line2D}, own {id: Line2D}, labels, legends, caution.
     """
     if set(kwargs) - set(_PLOT_OPTIONS):
         raise TypeError(f"plot_envelope() got unknown keyword(s) {', '.join(sorted(set(kwargs) - set(_PLOT_OPTIONS)))}"
@@ -641,7 +635,7 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         from matplotlib.figure import Figure
         height = 6.4 + (0.2 * (len(env.points) + 2) if opt["details"] else 0.0)
         ax = FigureCanvasAgg(Figure(figsize=(10.0, height))).figure.add_axes((0.08, 1 - 5.6 / height, 0.84, 5 / height))
-    fig, kft, top = ax.figure, 1.0 / FT, env.mach_top
+    fig, kft, top = ax.figure, 1.0 / FT, env.mach_top     # altitude drawn in ft
     h = {"figure": fig, "ax": ax, "turns": {}, "points": {}, "own": {}, "ceilings": {}, "legends": []}
     style, n_items, texts = [], [], []
     ax.set_xlim(0.0, top * 1.03)
@@ -725,6 +719,9 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         FigureCanvasAgg(fig)
     renderer = fig.canvas.get_renderer()
     marks = [ln.get_window_extent(renderer).padded(2) for ln in h["points"].values()]
+    for t in texts:       # a ceiling label under the legend moves to the right end of its tick
+        if t.get_window_extent(renderer).overlaps(leg.get_window_extent(renderer)):
+            t.xy, t.xyann, _ = (t.xy[0] + 0.1 * top, t.xy[1]), (3, t.xyann[1]), t.set_ha("left")
     obstacles = [t.get_window_extent(renderer) for t in texts + [leg]] + marks
     h["labels"] = _place_labels(ax, n_items + [it + (mk,) for it, mk in zip(items, marks)], obstacles)
     anchor, xy = ax, (-0.07, -0.1)
@@ -736,7 +733,8 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         h["legends"].append(anchor)
         xy = (0.0, 0.0)
     if opt["caution"]:
-        h["caution"] = ax.annotate("\n".join(textwrap.wrap(CAUTION, 150)), xy=xy, xycoords=anchor,
+        text = "\n".join(textwrap.wrap(" ".join(f"Note: {t}." for t in env.notes), 150) + textwrap.wrap(CAUTION, 150))
+        h["caution"] = ax.annotate(text, xy=xy, xycoords=anchor,
                                    xytext=(0, -6), textcoords="offset points", ha="left", va="top",
                                    fontsize=7, color="#333333", annotation_clip=False)
     return h

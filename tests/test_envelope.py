@@ -324,7 +324,7 @@ def test_plot_returns_handles_rejects_unknown_keywords_and_leaves_no_figure_open
     before = plt.get_fignums()
     h = plot_envelope(env)
     assert set(h["points"]) == {r.id for r in res.requirements}
-    assert h["level"] is not None and h["caution"].get_text().replace("\n", " ") == CAUTION
+    assert h["level"] is not None and CAUTION in h["caution"].get_text().replace("\n", " ")
     with pytest.raises(TypeError, match="valid: contours"):
         plot_envelope(env, colour="red")
     ax = Figure().add_subplot()
