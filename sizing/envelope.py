@@ -83,7 +83,8 @@ def _state(Y, ac, altitude, mach, cond):
 def specific_excess_power(W_S, Y, ac, altitude, mach, n=1.0, cond=Conditions()):
     """Specific excess power Ps = V (T - D) / W of a design [m/s].
 
-    Ps = (V/beta) (T/W_TO - q CD(CL, M)/(W_TO/S)),  CL = n beta (W_TO/S)/q.
+    Ps = (V/beta) (T/W_TO - q CD(CL, M)/(W_TO/S)),  CL = n beta (W_TO/S)/q; valid inside the
+    polar's Mach tables and up to CLmax (the envelope keeps to both).
 
     Parameters
     ----------
@@ -91,7 +92,6 @@ def specific_excess_power(W_S, Y, ac, altitude, mach, n=1.0, cond=Conditions()):
     ac : aircraft view (:func:`sizing.model.aircraft`); cond : :class:`Conditions`
     altitude : pressure altitude [m]; mach [-]; n : load factor [-] (arrays broadcast)
 
-    Valid inside the polar's Mach tables and up to CLmax (the envelope applies both).
     Examples
     --------
     Hand calculation (Mattingly Eq. 2.11 solved for Ps): W/S 3000 N/m^2,
