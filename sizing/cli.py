@@ -60,10 +60,11 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _solve(path):
-    from .solve import solve
     from .spec import load
 
-    spec = load(path)
+    spec = load(path)        # bad input is reported before the optimizer is even imported
+    from .solve import solve
+
     return spec, solve(spec)
 
 

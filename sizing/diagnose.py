@@ -33,6 +33,7 @@ import numpy as np
 
 from . import model as M
 from . import weights as Wt
+from .atmosphere import isa
 from .errors import SolverError
 from .terms import _HARDER, _user_unit
 
@@ -82,8 +83,8 @@ class _Slack:
     speeds of cruise and dash requirements (two-sided).
     """
 
-    def __init__(self, prob, p, rid):
-        r = prob.tree0["requirements"][rid]
+    def __init__(self, prob, p, rid, tree=None):
+        r = (tree or prob.tree0)["requirements"][rid]
         self.rid = rid
         self.field = M.value_field(r)
         self.j = {path: i for i, path in enumerate(prob.paths)}.get(("requirements", rid, self.field))
@@ -93,8 +94,12 @@ class _Slack:
             return
         self.v0 = float(p[self.j])
         lo, hi = _BOUNDS.get(self.field, (-1e9, 1e9))
-        if r["kind"] in ("cruise", "max-mach") and self.field == "mach":
-            hi = min(hi, prob.spec.model.aircraft.aerodynamics.mach_max)
+        if self.two_sided:      # a faster cruise or dash must stay inside the drag polar's table
+            top = prob.spec.model.aircraft.aerodynamics.mach_max
+            if math.isfinite(top):
+                if self.field == "speed":
+                    top *= float(isa(r.get("altitude", 0.0), r.get("temperature_offset", 0.0)).speed_of_sound)
+                hi = min(hi, top * (1 - 1e-9))
         self.up = max(hi - self.v0, 0.0) if (self.two_sided or self.h < 0) else 0.0
         self.down = max(self.v0 - lo, 0.0) if (self.two_sided or self.h > 0) else 0.0
         self.S = max(abs(self.v0), _FLOOR.get(self.field, 1.0))
@@ -111,7 +116,8 @@ class _Slack:
 
 
 def _slacks(prob, p, rids):
-    return [s for s in (_Slack(prob, p, rid) for rid in rids) if s.usable]
+    tree = prob.tree_of(p)
+    return [s for s in (_Slack(prob, p, rid, tree) for rid in rids) if s.usable]
 
 
 def _elastic_solver(prob, slacks):

@@ -809,11 +809,12 @@ class RequirementFile(Strict):
                 raise FieldError(("requirements", i, "engines_out"),
                                  f"engines_out {r.engines_out} leaves no engine running (the aircraft "
                                  f"has {engines})")
-            mach = getattr(r, "mach", None)
-            if mach is not None and mach > self.aircraft.aerodynamics.mach_max:
-                raise FieldError(("requirements", i, "mach"),
-                                 f"mach {mach:g} lies above the drag polar's Mach table (up to "
-                                 f"{self.aircraft.aerodynamics.mach_max:g}); extend the table or lower the Mach")
+            if r.kind not in ("stall-speed", "instantaneous-turn"):     # these use CLmax only
+                _within_table(self.aircraft.aerodynamics.mach_max, r, ("requirements", i))
+        if self.mission is not None:
+            for i, seg in enumerate(self.mission.segments):
+                if seg.kind != "fixed":
+                    _within_table(self.aircraft.aerodynamics.mach_max, seg, ("mission", "segments", i))
         fuel = self.aircraft.weights.fuel.fraction
         if fuel is None and self.mission is None:
             raise FieldError(("aircraft", "weights", "fuel"),
@@ -830,6 +831,24 @@ class RequirementFile(Strict):
                 raise FieldError(("design_space", "power_to_weight"),
                                  "a jet is sized by thrust_to_weight, not power_to_weight")
         return self
+
+
+def _within_table(mach_max, obj, where):
+    """A flight condition's Mach number must lie inside the drag polar's Mach table."""
+    if not math.isfinite(mach_max):
+        return
+    mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
+    if mach is not None and mach > mach_max:
+        raise FieldError(where + ("mach",), f"mach {mach:g} lies above the drag polar's Mach table (up to "
+                                            f"{mach_max:g}); extend the table or lower the Mach")
+    if speed is not None:
+        from .atmosphere import isa
+
+        M = speed.si / float(isa(obj.altitude.si, obj.temperature_offset.si).speed_of_sound)
+        if M > mach_max:
+            raise FieldError(where + ("speed",), f"speed {speed.text} is Mach {M:.3f} here, above the drag "
+                                                 f"polar's Mach table (up to {mach_max:g}); extend the "
+                                                 f"table or lower the speed")
 
 
 def _is_dim(q: units.Quantity, dim: str) -> bool:
@@ -884,7 +903,8 @@ def _yaml_with_lines(text: str, filename: str):
         raise InputError(f"YAML syntax: {problem}" + (f"; {hint}" if hint else ""), filename, line) from None
     except yaml.reader.ReaderError as e:
         line = text.count("\n", 0, max(e.position, 0)) + 1
-        raise InputError(f"not YAML text: character {e.character!r} cannot appear in a YAML file "
+        ch = chr(e.character) if isinstance(e.character, int) else e.character
+        raise InputError(f"not YAML text: the control character {ch!r} cannot appear in a YAML file "
                          f"(is it a binary file?)", filename, line) from None
     except yaml.YAMLError as e:
         raise InputError(f"YAML: {e}", filename) from None

@@ -21,7 +21,14 @@ G0 = 9.80665  # standard gravity [m/s^2], converts mass-based to weight-based un
 def registry():
     import pint
 
-    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    # pint's own on-disk cache of its parsed definitions makes a cold start
+    # ~0.3 s faster; any trouble with it (read-only home, a half-written file
+    # from a parallel process) falls back to parsing the definitions
+    try:
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
+        ureg.parse_units("ft/min")
+    except Exception:  # noqa: BLE001 - the cache is an optimisation only
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     for name in ("kn", "KTAS"):     # knots of true airspeed, in case this pint lacks them
         if name not in ureg:
             ureg.define(f"{name} = knot")
