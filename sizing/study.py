@@ -116,7 +116,17 @@ def _err(msg, study_file, lines, key, fld=None):
 
 
 def _split_value(v):
-    """(number, unit text) of a value as written: 4.5 -> (4.5, ''); '700 m' -> (700.0, 'm')."""
+    """(number, unit text) of a value as written; None when it is not a value.
+
+    Examples
+    --------
+    Hand calculation: the number and the unit as the user wrote them.
+
+    >>> _split_value(4.5), _split_value("700 m"), _split_value("6 %")
+    ((4.5, ''), (700.0, 'm'), (6.0, '%'))
+    >>> _split_value("fast") is None
+    True
+    """
     if isinstance(v, bool):
         return None
     if isinstance(v, (int, float)):
@@ -469,7 +479,8 @@ def load_study(source, base_dir=None) -> Study:
     A mapping's ``base`` is relative to ``base_dir`` (default: the current
     directory); a file's to the study file's folder.
     """
-    from .spec import _yaml_with_lines, load
+    from .spec import load
+    from .units import read_yaml
 
     if isinstance(source, dict):
         data, lines, study_file = copy.deepcopy(source), {}, "<study>"
@@ -480,7 +491,8 @@ def load_study(source, base_dir=None) -> Study:
             text = Path(source).read_text(encoding="utf-8")
         except (OSError, UnicodeDecodeError) as e:
             raise InputError(f"cannot read the study file: {getattr(e, 'strerror', None) or e}", study_file) from None
-        data, lines = _yaml_with_lines(text, study_file)
+        data, lines = read_yaml(text, study_file, "the study file is empty; a study is a mapping with base "
+                                                  "and sweep (or sample)")
         folder = Path(base_dir) if base_dir is not None else Path(source).parent
     if not isinstance(data, dict):
         raise InputError("a study file is a mapping with base and sweep (or sample)", study_file, 1)
@@ -546,6 +558,7 @@ class _Context:
         self.prob = Problem(self.spec)
         self.p0 = self.prob.parameters(self.spec)
         self.index = np.asarray(job["index"], dtype=int)
+        self.confirm = bool(job.get("confirm", True))
         x, lg, lx, _st, ok = self.prob.solve_raw(self.p0)
         self.base_warm = (x, lg, lx) if ok else None
         self.warm_solver = _warm_solver(self.prob)
@@ -619,17 +632,23 @@ def _solve_point(ctx, p, warm):
     """
     prob = ctx.prob
     iters = 0
+    warm_status = None
     if warm is not None:
         x0, lg, lx = warm
         solver = ctx.warm_solver
         sol = solver(x0=x0, p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg, lam_g0=lg, lam_x0=lx)
         st = solver.stats()
         iters = st.get("iter_count", 0) or 0
+        warm_status = st.get("return_status")
         x = np.array(sol["x"]).ravel()
-        if st.get("return_status") in ("Solve_Succeeded", "Solved_To_Acceptable_Level"):
+        if warm_status in ("Solve_Succeeded", "Solved_To_Acceptable_Level"):
             g = np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
             if _rows_ok(prob, g):
                 return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
+    if not ctx.confirm and warm_status is not None and not _scan_feasible(prob, p):
+        # quick verdict: IPOPT found no feasible design from the neighbour's answer
+        # (within WARM_MAX_ITER) and the single solve's coarse W/S scan finds none either
+        return 1, x, None, iters, True
     # every starting point of a single solve (exactly what sizing.solve.solve tries),
     # so a point called infeasible here is one the single solve calls infeasible too
     x, lg2, lx2, st, ok = prob.solve_raw(p)
@@ -638,6 +657,22 @@ def _solve_point(ctx, p, warm):
         return 0, x, (x, lg2, lx2), iters, True
     code = 1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2
     return code, x, None, iters, True
+
+
+def _scan_feasible(prob, p, tol=1e-3) -> bool:
+    """Whether the coarse numpy W/S scan of Problem.initial_guess finds a design.
+
+    The scan's best point is a feasible, closed design when one exists on its
+    grid (it minimises the closed mass over the points that meet every
+    requirement); otherwise it is the least-thrust point, which violates a
+    row or the closure.
+    """
+    x = prob.initial_guess(p)
+    g = np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
+    for (_rid, what), v in zip(prob.rows, g):
+        if not np.isfinite(v) or (abs(v) > tol if what == "closure" else v < -tol):
+            return False
+    return True
 
 
 def _verify_chunk(ctx, X, P):
@@ -734,7 +769,8 @@ def _run_chunk(job, chunk):
         except Exception:  # noqa: BLE001
             drivers[i] = ""
     return {"chunk": cid, "idx": np.asarray(idx), "code": code, "out": out, "drivers": drivers,
-            "iterations": iters, "seconds": time.perf_counter() - t0, "pid": os.getpid()}
+            "iterations": iters, "fallbacks": int(numpy_checked.sum()), "seconds": time.perf_counter() - t0,
+            "pid": os.getpid()}
 
 
 def _pool_init(job):
@@ -795,10 +831,12 @@ def _chunks(study, n):
     return out
 
 
-def _job(study):
+def _job(study, confirm=True):
+    """What a worker needs (picklable: raw data, never a built Problem)."""
     data = study.base.data
-    key = hashlib.sha256(repr((data, study.base.path, [v.index for v in study.varied])).encode()).hexdigest()
-    return {"key": key, "data": data, "filename": study.base.path, "index": [v.index for v in study.varied]}
+    index = [v.index for v in study.varied]
+    key = hashlib.sha256(repr((data, study.base.path, index, confirm)).encode()).hexdigest()
+    return {"key": key, "data": data, "filename": study.base.path, "index": index, "confirm": bool(confirm)}
 
 
 class Progress:
@@ -899,6 +937,7 @@ class StudyResult:
     elapsed_s: float = 0.0
     iterations: int = 0
     points: int = 0
+    fallbacks: int = 0            # points the warm step did not settle (every start of a single solve tried)
 
     @property
     def propeller(self) -> bool:
@@ -922,13 +961,20 @@ class StudyResult:
         return write_outputs(self, output_dir)
 
 
-def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=True, base_dir=None) -> StudyResult:
+def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=True, base_dir=None,
+              confirm_infeasible=True) -> StudyResult:
     """Run a study (file path, mapping or :class:`Study`); returns a :class:`StudyResult`.
 
     workers: local processes (default all cores; 1 runs in this process);
     dask: a scheduler address or a ``dask.distributed.Client``; limit: only the
     first N points; progress: show a bar (default: when stderr is a terminal);
-    costs: also solve the base point fully for the requirement costs.
+    costs: also solve the base point fully for the requirement costs;
+    confirm_infeasible: a point is called infeasible only after every starting
+    point of a single solve failed (default); False calls it infeasible when
+    the warm start from the neighbour's answer fails and the single solve's
+    coarse W/S scan finds no design either (much faster where many points are
+    infeasible; a heuristic that can miss a feasible window narrower than the
+    scan's spacing: compare with the default before relying on it).
     """
     import pandas as pd
 
@@ -938,7 +984,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
         raise InputError(f"--limit must be at least 1, got {limit}", study.file)
     if workers is not None and int(workers) < 1:
         raise InputError(f"--workers must be at least 1, got {workers}", study.file)
-    job = _job(study)
+    job = _job(study, confirm_infeasible)
     chunks = _chunks(study, n)
     bar = Progress(n, label="study", enabled=progress)
     t0 = time.perf_counter()
@@ -952,13 +998,14 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     code = np.full(n, 2, dtype=np.int8)
     out = np.full((n, 4), np.nan)
     drivers = np.array([""] * n, dtype=object)
-    iters = 0
+    iters = fallbacks = 0
     try:
         for r in results:
             code[r["idx"]] = r["code"]
             out[r["idx"]] = r["out"]
             drivers[r["idx"]] = r["drivers"]
             iters += int(r["iterations"].sum())
+            fallbacks += r["fallbacks"]
     finally:
         bar.close()
     elapsed = time.perf_counter() - t0
@@ -972,7 +1019,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
         from .solve import solve
 
         base = solve(study.base)
-    return StudyResult(study, table, base, executor, nw, elapsed, iters, n)
+    return StudyResult(study, table, base, executor, nw, elapsed, iters, n, fallbacks)
 
 
 def write_outputs(result: StudyResult, output_dir) -> list:
@@ -995,7 +1042,8 @@ def write_outputs(result: StudyResult, output_dir) -> list:
         "feasible_fraction": _finite(result.feasible_fraction),
         "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
         "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
-        "ipopt_iterations": result.iterations, "caution": CAUTION,
+        "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
+        "caution": CAUTION,
     }
     written.append(atomic_write(out / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
     written += study_plots.write_plots(result, out)
