@@ -15,169 +15,25 @@ from __future__ import annotations
 import difflib
 import hashlib
 import math
-import re
 from pathlib import Path
 from typing import Annotated, Literal, Optional, Union
 
-from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationError,
-                      WithJsonSchema, field_validator, model_validator)
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
 
 from . import units
 from .atmosphere import H_MAX, H_MIN
-from .errors import InputError
-from .propulsion import ENGINE_TYPES, PROPELLER_TYPES
+from .errors import FieldError, InputError, located
+from .propulsion import PROPELLER_TYPES
+from .units import (ArealMass, EngineMass, Fraction, FuelConsumption, Identifier, Length,  # noqa: F401
+                    LiftCoefficient, LoadFactor, MachNumber, Mass, Number, PowerToWeight, Speed,
+                    TempDelta, Text, Time, Tsfc, WingLoading, read_yaml)
+from .units import positive as _positive
+from .units import within as _within
 
-# --------------------------------------------------------------------------
-# Field types
-# --------------------------------------------------------------------------
-
-
-# a number, then a unit (which starts with a letter or a symbol, or is 1/...)
-DIMENSIONAL = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*([^\s\d.+-]|1\s*/).*$"
-
-
-def _q(dim: str):
-    d = units.DIMENSIONS[dim]
-    text = {"type": "string", "description": f"{d.name} with a unit, e.g. {d.examples}", "pattern": DIMENSIONAL}
-    if dim == "temperature_difference":      # a bare 0 needs no unit
-        text = {"anyOf": [text, {"const": 0}], "description": text["description"]}
-    return Annotated[
-        units.Quantity,
-        BeforeValidator(lambda v, _d=dim: v if isinstance(v, units.Quantity) else units.parse(v, _d)),
-        WithJsonSchema(text),
-    ]
+EMPTY = "the file is empty; a requirement file is a mapping with title, aircraft and requirements"
 
 
-Length = _q("length")
-Speed = _q("speed")
-Mass = _q("mass")
-Time = _q("time")
-TempDelta = _q("temperature_difference")
-WingLoading = _q("wing_loading")
-ArealMass = _q("areal_mass")
-PowerToWeight = _q("power_to_weight")
-Tsfc = _q("tsfc")
-
-
-def _mass_per_engine(v):
-    if isinstance(v, units.Quantity):
-        return v
-    try:
-        return units.parse(v, "mass_per_thrust")
-    except units.UnitError:
-        try:
-            return units.parse(v, "mass_per_power")
-        except units.UnitError:
-            raise units.UnitError(
-                f"{v!r} is not a mass per sea-level thrust ('0.025 kg/N') nor per sea-level power "
-                f"('0.9 kg/kW')") from None
-
-
-EngineMass = Annotated[units.Quantity, BeforeValidator(_mass_per_engine),
-                       WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "mass per sea-level thrust "
-                                       "('0.025 kg/N') or, for propeller aircraft, per power ('0.9 kg/kW')"})]
-
-
-def _fuel_consumption(v):
-    if isinstance(v, units.Quantity):
-        return v
-    for dim in ("tsfc", "psfc"):
-        try:
-            return units.parse(v, dim)
-        except units.UnitError:
-            pass
-    raise units.UnitError(f"{v!r} is not a fuel consumption: jets give thrust-specific ('0.9 1/h', "
-                          f"'22 mg/(N*s)'), propeller aircraft power-specific ('0.45 lb/(hp*h)')")
-
-
-FuelConsumption = Annotated[units.Quantity, BeforeValidator(_fuel_consumption),
-                            WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "thrust-specific "
-                                            "('0.9 1/h', '22 mg/(N*s)') or power-specific "
-                                            "('0.45 lb/(hp*h)') fuel consumption"})]
-
-Fraction = Annotated[float, BeforeValidator(units.parse_fraction),
-                     WithJsonSchema({"anyOf": [{"type": "number"},
-                                               {"type": "string", "pattern": r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*%?\s*$"}],
-                                     "description": "a number, or a percentage such as '6 %'"})]
-
-
-_NUMERIC = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$"
-
-
-def _number(v):
-    if v is None:
-        raise ValueError("no value given; write a number here, or remove the key to use the default")
-    if isinstance(v, bool) or not isinstance(v, (int, float)):
-        if isinstance(v, str):
-            try:
-                out = float(v)
-            except ValueError:
-                out = None
-            if out is not None and math.isfinite(out):
-                return out
-            if out is None and _looks_dimensional(v):
-                raise ValueError(f"{v!r} has a unit, but this value is a plain number (dimensionless); "
-                                 f"write it without the unit")
-        raise ValueError(f"{v!r} is not a number (this value is dimensionless)")
-    if not math.isfinite(v):
-        raise ValueError(f"{v!r} is not a finite number")
-    return float(v)
-
-
-def _looks_dimensional(text: str) -> bool:
-    parts = text.split(None, 1)
-    if len(parts) != 2:
-        return False
-    try:
-        float(parts[0])
-    except ValueError:
-        return False
-    return True
-
-
-Number = Annotated[float, BeforeValidator(_number),
-                   WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": _NUMERIC}]})]
-
-
-def _bounded(lo=None, hi=None, open_lo=False):
-    """A Number whose JSON Schema carries its plausible range (the validators check it too)."""
-    num: dict = {"type": "number"}
-    if lo is not None:
-        num["exclusiveMinimum" if open_lo else "minimum"] = lo
-    if hi is not None:
-        num["maximum"] = hi
-    return Annotated[float, BeforeValidator(_number),
-                     WithJsonSchema({"anyOf": [num, {"type": "string", "pattern": _NUMERIC}]})]
-
-
-MachNumber = _bounded(0.0, 5.0, open_lo=True)
-LoadFactor = _bounded(0.0, 15.0, open_lo=True)
-LiftCoefficient = _bounded(0.2, 4.5)
-
-
-def _text(v):
-    """Free text (title, note, names): numbers and dates are read as their text."""
-    if isinstance(v, str):
-        return v
-    if v is None:
-        raise ValueError("no text given")
-    if isinstance(v, (dict, list)):
-        raise ValueError(f"expected text, got a {'mapping' if isinstance(v, dict) else 'list'}")
-    return str(v)
-
-
-Text = Annotated[str, BeforeValidator(_text), WithJsonSchema({"type": ["string", "number"]})]
-
-
-def _identifier(v):
-    if isinstance(v, str):
-        if not v.strip():
-            raise ValueError("id is empty; give each requirement a short unique name such as 'turn-4g'")
-        return v
-    raise ValueError(f"id {v!r} must be text: write a name such as 'turn-4g', or quote it (id: '{v}')")
-
-
-Identifier = Annotated[str, BeforeValidator(_identifier), WithJsonSchema({"type": "string", "minLength": 1})]
+_yaml_with_lines = read_yaml      # (data, lines) of YAML text; the study module reads with it
 
 
 class Strict(BaseModel):
@@ -192,38 +48,6 @@ class Strict(BaseModel):
                 if v is None and k in cls.model_fields:
                     raise FieldError(k, "no value given; write a value, or remove the key to use the default")
         return data
-
-
-class FieldError(ValueError):
-    """A model-level check that blames one field (path relative to the model)."""
-
-    def __init__(self, field, message: str):
-        self.path = tuple(field) if isinstance(field, (tuple, list)) else (field,)
-        super().__init__(message)
-
-
-def _positive(name, v, hi=None, field=None):
-    """Positive and (optionally) at most ``hi``; raises FieldError on ``field`` (default ``name``)."""
-    if v is None:
-        return v
-    val = v.si if isinstance(v, units.Quantity) else v
-    shown = getattr(v, "text", v)
-    if not val > 0:
-        raise FieldError(field or name, f"{name} must be positive, got {shown}")
-    if hi is not None and not val <= hi:
-        raise FieldError(field or name, f"{name} {shown} is not plausible (at most {hi:g})")
-    return v
-
-
-def _within(name, v, lo, hi, what="", field=None):
-    """``lo <= v <= hi`` (NaN-safe), else a FieldError naming the range."""
-    if v is None:
-        return v
-    val = v.si if isinstance(v, units.Quantity) else v
-    if not (lo <= val <= hi):
-        shown = getattr(v, "text", v)
-        raise FieldError(field or name, f"{name} {shown} is outside {what or f'{lo:g} to {hi:g}'}")
-    return v
 
 
 # --------------------------------------------------------------------------
@@ -503,56 +327,36 @@ class FixedSegment(_Segment):
 
 
 
-class CruiseSegment(_Segment):
+class _Flown(_Segment):
+    mach: Optional[MachNumber] = None
+    speed: Optional[Speed] = None
+    altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
+    temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
+    tsfc: Optional[FuelConsumption] = None
+
+    @model_validator(mode="after")
+    def _flown(self):
+        _flight_condition(self, need_speed=self.kind in ("combat", "maneuver"))
+        _positive("tsfc", self.tsfc)
+        _positive("range", getattr(self, "range", None), 4.0e7)
+        _positive("time", getattr(self, "time", None), 1.0e6)
+        return self
+
+
+class CruiseSegment(_Flown):
     kind: Literal["cruise"]
     range: Length
-    mach: Optional[MachNumber] = None
-    speed: Optional[Speed] = None
-    altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
-    temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
-    tsfc: Optional[FuelConsumption] = None
-
-    @model_validator(mode="after")
-    def _ranges(self):
-        _positive("range", self.range, 4.0e7)
-        _flight_condition(self, need_speed=False)
-        _positive("tsfc", self.tsfc)
-        return self
 
 
-class LoiterSegment(_Segment):
+class LoiterSegment(_Flown):
     kind: Literal["loiter"]
     time: Time
-    mach: Optional[MachNumber] = None
-    speed: Optional[Speed] = None
-    altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
-    temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
-    tsfc: Optional[FuelConsumption] = None
-
-    @model_validator(mode="after")
-    def _ranges(self):
-        _positive("time", self.time, 1.0e6)
-        _flight_condition(self, need_speed=False)
-        _positive("tsfc", self.tsfc)
-        return self
 
 
-class CombatSegment(_Segment):
+class CombatSegment(_Flown):
     kind: Literal["combat", "maneuver"]
     time: Time
     load_factor: LoadFactor = 1.0
-    mach: Optional[MachNumber] = None
-    speed: Optional[Speed] = None
-    altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
-    temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
-    tsfc: Optional[FuelConsumption] = None
-
-    @model_validator(mode="after")
-    def _speed(self):
-        _positive("time", self.time, 1.0e6)
-        _flight_condition(self, need_speed=True)
-        _positive("tsfc", self.tsfc)
-        return self
 
 
 Segment = Annotated[Union[FixedSegment, CruiseSegment, LoiterSegment, CombatSegment], Field(discriminator="kind")]
@@ -778,7 +582,7 @@ class RequirementFile(Strict):
         emp = self.aircraft.weights.empty
         where = ("aircraft", "weights", "empty", "propulsion")
         if isinstance(emp, EmptyComponents):
-            is_power = _is_dim(emp.propulsion, "mass_per_power")
+            is_power = units.is_dimension(emp.propulsion, "mass_per_power")
             if prop and not is_power:
                 raise FieldError(where, f"{kind} gives mass per sea-level power, e.g. "
                                         f"{units.DIMENSIONS['mass_per_power'].examples}, got {emp.propulsion.text}")
@@ -792,7 +596,7 @@ class RequirementFile(Strict):
                 (("mission", "segments", i, "tsfc"), getattr(s, "tsfc", None))
                 for i, s in enumerate(self.mission.segments)]
             for path, q in places:
-                if q is not None and not _is_dim(q, want):
+                if q is not None and not units.is_dimension(q, want):
                     raise FieldError(path, f"{kind} burns fuel per {'power' if prop else 'thrust'}: give "
                                            f"{'power' if prop else 'thrust'}-specific consumption such as "
                                            f"{example}, got {q.text}")
@@ -849,417 +653,6 @@ def _within_table(mach_max, obj, where):
             raise FieldError(where + ("speed",), f"speed {speed.text} is Mach {M:.3f} here, above the drag "
                                                  f"polar's Mach table (up to {mach_max:g}); extend the "
                                                  f"table or lower the speed")
-
-
-def _is_dim(q: units.Quantity, dim: str) -> bool:
-    try:
-        units.parse(q.text, dim)
-        return True
-    except units.UnitError:
-        return False
-
-
-# --------------------------------------------------------------------------
-# Loading with line numbers
-# --------------------------------------------------------------------------
-
-MAX_NODES = 100_000      # more values than this (through aliases) is not a requirement file
-
-_YAML_HINTS = (
-    ("'\\t'", "indent with spaces, not tabs"),
-    ("mapping values are not allowed", "a missing space after ':', a missing quote, or a wrong indent?"),
-    ("could not find expected ':'", "a key without ':' or an unclosed quote?"),
-    ("expected <block end>", "the indentation does not line up with the lines above"),
-    ("found undefined alias", "an alias (*name) needs an anchor (&name) above it"),
-)
-
-
-def _yaml_with_lines(text: str, filename: str):
-    """Parse YAML text into (data, lines): lines maps key paths to line numbers."""
-    import yaml
-
-    try:
-        loader = yaml.SafeLoader(text)
-        try:
-            node = loader.get_single_node()
-            if node is None:
-                raise InputError("the file is empty; a requirement file is a mapping with title, aircraft "
-                                 "and requirements", filename, 1)
-            lines = _node_lines(node, filename)
-            data = loader.construct_document(node)
-        finally:
-            loader.dispose()
-    except yaml.MarkedYAMLError as e:
-        mark = e.problem_mark or e.context_mark
-        line = mark.line + 1 if mark else None
-        problem = e.problem or str(e)
-        hint = next((h for key, h in _YAML_HINTS if key in problem), "")
-        col = f" (column {mark.column + 1})" if mark else ""
-        cm = e.context_mark
-        if e.context and cm is not None and mark is not None and cm.line != mark.line:
-            problem += f"{col}, {e.context} that starts on line {cm.line + 1}"
-        else:
-            problem += col
-        raise InputError(f"YAML syntax: {problem}" + (f"; {hint}" if hint else ""), filename, line) from None
-    except yaml.reader.ReaderError as e:
-        line = text.count("\n", 0, max(e.position, 0)) + 1
-        ch = chr(e.character) if isinstance(e.character, int) else e.character
-        raise InputError(f"not YAML text: the control character {ch!r} cannot appear in a YAML file "
-                         f"(is it a binary file?)", filename, line) from None
-    except yaml.YAMLError as e:
-        raise InputError(f"YAML: {e}", filename) from None
-    except RecursionError:
-        raise InputError("the YAML is nested too deeply to be a requirement file", filename) from None
-    return data, lines
-
-
-def _node_lines(root, filename):
-    """Line of every key path; rejects duplicate keys, cyclic and exploding aliases."""
-    import yaml
-
-    lines: dict = {(): root.start_mark.line + 1}
-    stack = [(root, (), frozenset(), False)]
-    count = 0
-    while stack:
-        n, path, ancestors, merged = stack.pop()
-        count += 1
-        if count > MAX_NODES:
-            raise InputError(f"the file expands to more than {MAX_NODES:,} values (through aliases); "
-                             f"a requirement file is much smaller", filename, n.start_mark.line + 1)
-        if not isinstance(n, (yaml.MappingNode, yaml.SequenceNode)):
-            continue
-        if id(n) in ancestors:
-            raise InputError("an alias refers to a value that contains it (a cycle)", filename,
-                             n.start_mark.line + 1, _show_path(path))
-        inner = ancestors | {id(n)}
-        if isinstance(n, yaml.SequenceNode):
-            for i, item in enumerate(n.value):
-                lines.setdefault(path + (i,), item.start_mark.line + 1)
-                stack.append((item, path + (i,), inner, merged))
-            continue
-        seen: dict = {}
-        for k, v in n.value:
-            if isinstance(k, yaml.ScalarNode) and k.tag == "tag:yaml.org,2002:merge":
-                for m in (v.value if isinstance(v, yaml.SequenceNode) else [v]):
-                    stack.append((m, path, inner, True))
-                continue
-            key = k.value if isinstance(k, yaml.ScalarNode) else repr(k.value)
-            line = k.start_mark.line + 1
-            if key in seen and not merged:
-                raise InputError(f"duplicate key {key!r} (first on line {seen[key]}); YAML would keep only "
-                                 f"the last one, so remove or rename one", filename, line,
-                                 _show_path(path + (key,)))
-            seen[key] = line
-            if merged:
-                lines.setdefault(path + (key,), line)
-            else:
-                lines[path + (key,)] = line
-            stack.append((v, path + (key,), inner, merged))
-    return lines
-
-
-def _show_path(path) -> str:
-    out = ""
-    for item in path:
-        out += f"[{item}]" if isinstance(item, int) else ("." if out else "") + str(item)
-    return out or "(top level)"
-
-
-def _child(node, item):
-    """(True, child) when ``item`` is a key or index of ``node``, else (False, None)."""
-    if isinstance(node, dict):
-        try:
-            if item in node:
-                return True, node[item]
-        except TypeError:
-            return False, None
-    elif isinstance(node, list) and isinstance(item, int) and not isinstance(item, bool) \
-            and 0 <= item < len(node):
-        return True, node[item]
-    return False, None
-
-
-def _locate(loc, data, lines, tail=()):
-    """Map a pydantic error location to (line, readable field path, data path, node).
-
-    Items of ``loc`` that are not keys of the data (pydantic's names of union
-    members) are skipped; ``tail`` items (a FieldError's field, a missing
-    key) are shown even where the data lack them.
-    """
-    path: tuple = ()
-    shown = ""
-    node = data
-    for k, item in enumerate(tuple(loc) + tuple(tail)):
-        is_tail = k >= len(loc)
-        found, nxt = _child(node, item)
-        if not found:
-            if is_tail:
-                shown += f"[{item}]" if isinstance(item, int) else ("." if shown else "") + str(item)
-                node = None
-            continue
-        if isinstance(node, list):
-            label = f"[{item}]"
-            if isinstance(nxt, dict) and isinstance(nxt.get("id"), (str, int, float)):
-                label += f" (id {nxt['id']})"
-            shown += label
-        else:
-            shown += ("." if shown else "") + str(item)
-        path = path + (item,)
-        node = nxt
-    line = None
-    for k in range(len(path), -1, -1):
-        if path[:k] in lines:
-            line = lines[path[:k]]
-            break
-    return line, shown or "(top level)", path, node
-
-
-def _model_for(path, data):
-    """The pydantic model class that validates the mapping at ``path`` (best effort)."""
-    model = RequirementFile
-    node = data
-    pending = None
-    for item in path:
-        if isinstance(item, int):
-            node = node[item] if isinstance(node, list) and 0 <= item < len(node) else None
-            if pending is not None:
-                model = _pick_model(pending, node)
-                pending = None
-            continue
-        field = model.model_fields.get(item) if model is not None else None
-        if field is None:
-            return None
-        node = node.get(item) if isinstance(node, dict) else None
-        if isinstance(node, list):
-            pending = field.annotation
-            continue
-        model = _pick_model(field.annotation, node)
-        if model is None:
-            return None
-    return model
-
-
-def _candidates(annotation) -> list:
-    import typing
-
-    out, stack = [], [annotation]
-    while stack:
-        a = stack.pop()
-        if isinstance(a, type) and issubclass(a, BaseModel):
-            out.append(a)
-        else:
-            stack.extend(reversed(typing.get_args(a)))
-    return out
-
-
-def _pick_model(annotation, node):
-    import typing
-
-    candidates = _candidates(annotation)
-    if not candidates:
-        return None
-    if isinstance(node, dict):
-        for c in candidates:
-            for disc in ("kind", "model"):
-                f = c.model_fields.get(disc)
-                if f is not None and node.get(disc) in typing.get_args(f.annotation):
-                    return c
-    return candidates[0]
-
-
-def _tags_for(path, data, disc: str) -> list:
-    """Valid discriminator values (kinds, models) of the union at ``path``."""
-    import typing
-
-    strs = [k for k, item in enumerate(path) if isinstance(item, str)]
-    if not strs:
-        return []
-    k = strs[-1]
-    parent = _model_for(path[:k], data)
-    field = parent.model_fields.get(path[k]) if parent is not None else None
-    if field is None:
-        return []
-    tags = []
-    for c in _candidates(field.annotation):
-        f = c.model_fields.get(disc)
-        if f is not None:
-            tags.extend(typing.get_args(f.annotation))
-    return tags
-
-
-def _model_names() -> set:
-    return {n for n, o in globals().items() if isinstance(o, type) and issubclass(o, BaseModel)}
-
-
-def _union_split(e, data):
-    """(data path of a union, name of the member) for an error inside a plain union, else None."""
-    loc = tuple(e.get("loc", ()))
-    node, prefix = data, ()
-    for i, item in enumerate(loc):
-        found, nxt = _child(node, item)
-        if found:
-            node, prefix = nxt, prefix + (item,)
-            continue
-        if e.get("type") == "missing" and i == len(loc) - 1:
-            return None
-        return prefix, str(item)
-    return None
-
-
-def _data_path(loc, data) -> tuple:
-    """The items of a pydantic location that are keys or indices of the data."""
-    node, path = data, ()
-    for item in loc:
-        found, nxt = _child(node, item)
-        if found:
-            node, path = nxt, path + (item,)
-    return path
-
-
-def _node_at(data, path):
-    node = data
-    for item in path:
-        found, node = _child(node, item)
-        if not found:
-            return None
-    return node
-
-
-def _pick_branches(errors, data):
-    """For a value that failed every member of a union (``cd0: number | table``),
-    keep only the errors of the member the user evidently meant."""
-    names = _model_names()
-    groups: dict = {}
-    for i, e in enumerate(errors):
-        split = _union_split(e, data)
-        if split is not None:
-            groups.setdefault(split[0], {}).setdefault(split[1], []).append(i)
-    drop = set()
-    for prefix, branches in groups.items():
-        if len(branches) < 2:
-            continue
-        is_map = isinstance(_node_at(data, prefix), dict)
-
-        def is_model(tag):
-            return any(n in names for n in re.findall(r"[A-Za-z_][A-Za-z0-9_]*", tag))
-
-        keep = [t for t in branches if is_model(t) == is_map] or list(branches)
-        best = min(keep, key=lambda t: len(branches[t]))
-        for t, idx in branches.items():
-            if t != best:
-                drop.update(idx)
-    return [e for i, e in enumerate(errors) if i not in drop]
-
-
-def _show(node) -> str:
-    if node is None:
-        return "nothing (an empty value)"
-    if isinstance(node, dict):
-        return "a mapping"
-    if isinstance(node, list):
-        return "a list"
-    text = repr(node)
-    return text if len(text) <= 60 else text[:57] + "..."
-
-
-def _near(word, valid) -> str:
-    near = difflib.get_close_matches(str(word), [str(v) for v in valid], 1)
-    return f" (did you mean {near[0]!r}?)" if near else ""
-
-
-def _message(e, data, path, node, field):
-    """One readable message for one pydantic error; returns (message, field)."""
-    t, ctx, loc = e.get("type"), e.get("ctx") or {}, tuple(e.get("loc", ()))
-    msg = e.get("msg", "invalid")
-    if msg.startswith("Value error, "):
-        msg = msg[len("Value error, "):]
-    if t == "extra_forbidden":
-        key = loc[-1]
-        parent = _model_for(path[:-1], data) if path and path[-1] == key else _model_for(path, data)
-        valid = list(parent.model_fields) if parent else []
-        msg = f"unknown key {key!r}" + _near(key, valid)
-        if valid:
-            msg += f"; valid keys here: {', '.join(valid)}"
-    elif t == "missing":
-        parent = _model_for(path, data)
-        f = parent.model_fields.get(loc[-1]) if parent is not None else None
-        what = f" ({f.description})" if f is not None and f.description else ""
-        msg = f"missing required field {loc[-1]!r}{what}"
-    elif t == "union_tag_invalid":
-        disc = str(ctx.get("discriminator", "kind")).strip("'")
-        tags = _tags_for(path, data, disc)
-        msg = (f"unknown {disc} {ctx.get('tag')!r}" + _near(ctx.get("tag"), tags) +
-               f"; valid: {', '.join(tags) or ctx.get('expected_tags')}")
-    elif t == "union_tag_not_found":
-        disc = str(ctx.get("discriminator", "kind")).strip("'")
-        tags = _tags_for(path, data, disc)
-        if isinstance(node, dict):
-            msg = f"missing {disc!r}; valid: {', '.join(tags)}"
-        else:
-            msg = f"expected a mapping with {disc!r} ({', '.join(tags)}), got {_show(node)}"
-    elif t == "literal_error":
-        valid = re.findall(r"'([^']*)'", str(ctx.get("expected", "")))
-        msg = f"{_show(node)} is not valid{_near(node, valid)}; valid: {', '.join(valid)}"
-    elif t in ("model_type", "dict_type", "model_attributes_type"):
-        msg = f"expected a mapping (indented 'key: value' lines), got {_show(node)}"
-    elif t == "list_type":
-        msg = f"expected a list (lines starting with '- '), got {_show(node)}"
-    elif t == "tuple_type":
-        msg = f"expected a pair [low, high], got {_show(node)}"
-    elif t in ("too_short", "too_long"):
-        n, lo, hi = ctx.get("actual_length"), ctx.get("min_length"), ctx.get("max_length")
-        want = f"at least {lo}" if t == "too_short" else f"at most {hi}"
-        msg = f"has {n} entr{'y' if n == 1 else 'ies'}; needs {want}"
-    elif t in ("int_type", "int_parsing", "int_from_float"):
-        msg = f"expected a whole number, got {_show(node)}"
-    elif t in ("greater_than_equal", "greater_than"):
-        msg = f"{_show(node)} is too small: the smallest allowed value is {ctx.get('ge', ctx.get('gt'))}"
-    elif t in ("less_than_equal", "less_than"):
-        msg = f"{_show(node)} is too large: the largest allowed value is {ctx.get('le', ctx.get('lt'))}"
-    elif t in ("bool_type", "bool_parsing"):
-        msg = f"expected true or false, got {_show(node)}"
-    elif t == "string_type":
-        msg = f"expected text, got {_show(node)}"
-    elif t == "invalid_key":
-        parent = _model_for(path[:-1], data)
-        valid = f"; valid keys here: {', '.join(parent.model_fields)}" if parent is not None else ""
-        msg = f"key {loc[-1]!r} is not a name{valid}"
-    elif t == "recursion_loop":
-        msg = "a value refers to itself (cyclic alias)"
-    return msg, field
-
-
-def _messages(err: ValidationError, data, lines, filename):
-    """Located InputErrors for a pydantic ValidationError, in file order."""
-    errors = _pick_branches(err.errors(include_url=False), data)
-    out = []
-    for e in errors:
-        loc = tuple(e.get("loc", ()))
-        exc = (e.get("ctx") or {}).get("error")
-        tail = ()
-        if isinstance(exc, FieldError) and isinstance(_node_at(data, _data_path(loc, data)), dict):
-            tail = exc.path       # a model-level check blaming one of the model's fields
-        missing = e.get("type") == "missing"
-        if missing:
-            loc, tail = loc[:-1], (e["loc"][-1],)
-        line, field, path, node = _locate(loc, data, lines, tail)
-        if missing:
-            key = e["loc"][-1]
-        else:
-            key = path[-1] if path else None
-        msg, field = _message(e, data, path, node, field)
-        parent = path if missing else path[:-1]
-        out.append((e, InputError(msg, filename, line, field), parent, key))
-    # a misspelt key also shows up as a missing one: keep only the spelling hint
-    suggested = set()
-    for e, ie, parent, key in out:
-        m = re.search(r"did you mean '([^']+)'", ie.message)
-        if e.get("type") == "extra_forbidden" and m:
-            suggested.add((parent, m.group(1)))
-    kept = [ie for e, ie, parent, key in out
-            if not (e.get("type") == "missing" and (parent, key) in suggested)]
-    kept.sort(key=lambda ie: ie.line if ie.line is not None else 10 ** 9)
-    return kept
 
 
 class Spec:
@@ -1323,11 +716,11 @@ def validate(data, filename: str = "<memory>", lines: dict | None = None, text: 
     lines = lines or {(): 1}
     if not isinstance(data, dict):
         raise InputError(f"a requirement file is a mapping with title, aircraft and requirements, "
-                         f"got {_show(data)}", filename, 1)
+                         f"got {units.describe(data)}", filename, 1)
     try:
         model = RequirementFile.model_validate(data)
     except ValidationError as e:
-        errs = _messages(e, data, lines, filename)
+        errs = located(e, data, lines, filename, RequirementFile)
         if not errs:      # cannot happen with pydantic's errors, but never lose one
             raise InputError(f"invalid requirement file: {e}", filename) from None
         first = errs[0]
@@ -1338,7 +731,7 @@ def validate(data, filename: str = "<memory>", lines: dict | None = None, text: 
 
 
 def load_text(text: str, filename: str = "<memory>") -> Spec:
-    data, lines = _yaml_with_lines(text, filename)
+    data, lines = read_yaml(text, filename, EMPTY)
     return validate(data, filename, lines, text)
 
 
@@ -1382,31 +775,10 @@ def json_schema() -> dict:
     values and the ranges of CLmax, Mach numbers and load factors. Units,
     the other ranges and cross-field rules are checked by :func:`load` only.
     """
-    schema = _no_nulls(RequirementFile.model_json_schema())
+    schema = units.no_nulls(RequirementFile.model_json_schema())
     schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
     schema["title"] = "sizing requirement file"
     schema["description"] = ("Performance requirements and aircraft data for requirement-driven "
                              "conceptual sizing (see DESIGN.md §4). Dimensional values are strings "
                              "with a unit, e.g. '35000 ft', '250 kn'.")
     return schema
-
-
-def _no_nulls(node):
-    """Drop pydantic's ``{"type": "null"}`` alternatives and null defaults: an
-    empty value is an error in a requirement file (leave the key out instead)."""
-    if isinstance(node, dict):
-        out = {}
-        for k, v in node.items():
-            if k == "default" and v is None:
-                continue
-            if k == "anyOf" and isinstance(v, list):
-                v = [a for a in v if a != {"type": "null"}]
-                if len(v) == 1 and isinstance(v[0], dict):
-                    inner = _no_nulls(v[0])
-                    out.update({kk: vv for kk, vv in inner.items() if kk not in out})
-                    continue
-            out[k] = _no_nulls(v)
-        return out
-    if isinstance(node, list):
-        return [_no_nulls(v) for v in node]
-    return node

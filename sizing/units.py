@@ -1,10 +1,13 @@
-"""Unit parsing at the edge: strings with a unit -> SI floats (pint).
+"""The edge of the file format: YAML text, strings with a unit, field types.
 
 Every dimensional value in a requirement file is a string such as
 ``"35000 ft"`` or ``"250 kn"``. :func:`parse` turns it into an SI float and
 remembers the user's unit, so reports and sensitivities can speak the
 user's language. A bare number where a dimension is expected is an error
-that says which units fit.
+that says which units fit. The pydantic field types built on it (``Length``,
+``Speed``, ``Number``, ``Fraction``, ...) are what :mod:`sizing.spec`'s
+models are made of; :func:`read_yaml` reads the text with the line of every
+key, so every error can name its line.
 """
 from __future__ import annotations
 
@@ -13,6 +16,11 @@ import math
 import re
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Annotated
+
+from pydantic import BeforeValidator, WithJsonSchema
+
+from .errors import FieldError, InputError
 
 G0 = 9.80665  # standard gravity [m/s^2], converts mass-based to weight-based units
 
@@ -127,7 +135,7 @@ def parse(value, dimension: str) -> Quantity:
         raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
     if not isinstance(value, str):
         raise UnitError(f"expected a {dim.name} written as a number with a unit, e.g. {dim.examples}, "
-                        f"got {_kind_of(value)}")
+                        f"got {describe(value)}")
     text = value.strip()
     match = _NUMBER.match(text)
     if match is None:
@@ -197,7 +205,8 @@ def _dimension_words(dimensionality) -> str:
     return f"{'an' if word[0] in 'aeiou' else 'a'} {word} ({text})"
 
 
-def _kind_of(value) -> str:
+def describe(value) -> str:
+    """'a mapping', 'a list', 'nothing (an empty value)' or the value's type name."""
     if isinstance(value, dict):
         return "a mapping"
     if isinstance(value, list):
@@ -230,3 +239,321 @@ def parse_fraction(value) -> float:
     if not math.isfinite(out):
         raise UnitError(f"{value!r} is not a finite number")
     return out
+
+
+# --------------------------------------------------------------------------
+# Field types of the requirement-file models (pydantic)
+# --------------------------------------------------------------------------
+
+
+# a number, then a unit (which starts with a letter or a symbol, or is 1/...)
+DIMENSIONAL = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*([^\s\d.+-]|1\s*/).*$"
+
+
+def _q(dim: str):
+    d = DIMENSIONS[dim]
+    text = {"type": "string", "description": f"{d.name} with a unit, e.g. {d.examples}", "pattern": DIMENSIONAL}
+    if dim == "temperature_difference":      # a bare 0 needs no unit
+        text = {"anyOf": [text, {"const": 0}], "description": text["description"]}
+    return Annotated[
+        Quantity,
+        BeforeValidator(lambda v, _d=dim: v if isinstance(v, Quantity) else parse(v, _d)),
+        WithJsonSchema(text),
+    ]
+
+
+Length = _q("length")
+Speed = _q("speed")
+Mass = _q("mass")
+Time = _q("time")
+TempDelta = _q("temperature_difference")
+WingLoading = _q("wing_loading")
+ArealMass = _q("areal_mass")
+PowerToWeight = _q("power_to_weight")
+Tsfc = _q("tsfc")
+
+
+def _mass_per_engine(v):
+    if isinstance(v, Quantity):
+        return v
+    try:
+        return parse(v, "mass_per_thrust")
+    except UnitError:
+        try:
+            return parse(v, "mass_per_power")
+        except UnitError:
+            raise UnitError(
+                f"{v!r} is not a mass per sea-level thrust ('0.025 kg/N') nor per sea-level power "
+                f"('0.9 kg/kW')") from None
+
+
+EngineMass = Annotated[Quantity, BeforeValidator(_mass_per_engine),
+                       WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "mass per sea-level thrust "
+                                       "('0.025 kg/N') or, for propeller aircraft, per power ('0.9 kg/kW')"})]
+
+
+def _fuel_consumption(v):
+    if isinstance(v, Quantity):
+        return v
+    for dim in ("tsfc", "psfc"):
+        try:
+            return parse(v, dim)
+        except UnitError:
+            pass
+    raise UnitError(f"{v!r} is not a fuel consumption: jets give thrust-specific ('0.9 1/h', "
+                          f"'22 mg/(N*s)'), propeller aircraft power-specific ('0.45 lb/(hp*h)')")
+
+
+FuelConsumption = Annotated[Quantity, BeforeValidator(_fuel_consumption),
+                            WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "thrust-specific "
+                                            "('0.9 1/h', '22 mg/(N*s)') or power-specific "
+                                            "('0.45 lb/(hp*h)') fuel consumption"})]
+
+Fraction = Annotated[float, BeforeValidator(parse_fraction),
+                     WithJsonSchema({"anyOf": [{"type": "number"},
+                                               {"type": "string", "pattern": r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*%?\s*$"}],
+                                     "description": "a number, or a percentage such as '6 %'"})]
+
+
+_NUMERIC = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$"
+
+
+def _number(v):
+    if v is None:
+        raise ValueError("no value given; write a number here, or remove the key to use the default")
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        if isinstance(v, str):
+            try:
+                out = float(v)
+            except ValueError:
+                out = None
+            if out is not None and math.isfinite(out):
+                return out
+            if out is None and _looks_dimensional(v):
+                raise ValueError(f"{v!r} has a unit, but this value is a plain number (dimensionless); "
+                                 f"write it without the unit")
+        raise ValueError(f"{v!r} is not a number (this value is dimensionless)")
+    if not math.isfinite(v):
+        raise ValueError(f"{v!r} is not a finite number")
+    return float(v)
+
+
+def _looks_dimensional(text: str) -> bool:
+    parts = text.split(None, 1)
+    if len(parts) != 2:
+        return False
+    try:
+        float(parts[0])
+    except ValueError:
+        return False
+    return True
+
+
+Number = Annotated[float, BeforeValidator(_number),
+                   WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+def _bounded(lo=None, hi=None, open_lo=False):
+    """A Number whose JSON Schema carries its plausible range (the validators check it too)."""
+    num: dict = {"type": "number"}
+    if lo is not None:
+        num["exclusiveMinimum" if open_lo else "minimum"] = lo
+    if hi is not None:
+        num["maximum"] = hi
+    return Annotated[float, BeforeValidator(_number),
+                     WithJsonSchema({"anyOf": [num, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+MachNumber = _bounded(0.0, 5.0, open_lo=True)
+LoadFactor = _bounded(0.0, 15.0, open_lo=True)
+LiftCoefficient = _bounded(0.2, 4.5)
+
+
+def _text(v):
+    """Free text (title, note, names): numbers and dates are read as their text."""
+    if isinstance(v, str):
+        return v
+    if v is None:
+        raise ValueError("no text given")
+    if isinstance(v, (dict, list)):
+        raise ValueError(f"expected text, got a {'mapping' if isinstance(v, dict) else 'list'}")
+    return str(v)
+
+
+Text = Annotated[str, BeforeValidator(_text), WithJsonSchema({"type": ["string", "number"]})]
+
+
+def _identifier(v):
+    if isinstance(v, str):
+        if not v.strip():
+            raise ValueError("id is empty; give each requirement a short unique name such as 'turn-4g'")
+        return v
+    raise ValueError(f"id {v!r} must be text: write a name such as 'turn-4g', or quote it (id: '{v}')")
+
+
+Identifier = Annotated[str, BeforeValidator(_identifier), WithJsonSchema({"type": "string", "minLength": 1})]
+
+
+def positive(name, v, hi=None, field=None):
+    """Positive and (optionally) at most ``hi``; raises FieldError on ``field`` (default ``name``)."""
+    if v is None:
+        return v
+    val = v.si if isinstance(v, Quantity) else v
+    shown = getattr(v, "text", v)
+    if not val > 0:
+        raise FieldError(field or name, f"{name} must be positive, got {shown}")
+    if hi is not None and not val <= hi:
+        raise FieldError(field or name, f"{name} {shown} is not plausible (at most {hi:g})")
+    return v
+
+
+def within(name, v, lo, hi, what="", field=None):
+    """``lo <= v <= hi`` (NaN-safe), else a FieldError naming the range."""
+    if v is None:
+        return v
+    val = v.si if isinstance(v, Quantity) else v
+    if not (lo <= val <= hi):
+        shown = getattr(v, "text", v)
+        raise FieldError(field or name, f"{name} {shown} is outside {what or f'{lo:g} to {hi:g}'}")
+    return v
+
+
+# --------------------------------------------------------------------------
+# YAML text -> data and the line of every key
+# --------------------------------------------------------------------------
+
+MAX_NODES = 100_000      # more values than this (through aliases) is not a requirement file
+
+_YAML_HINTS = (
+    ("'\\t'", "indent with spaces, not tabs"),
+    ("mapping values are not allowed", "a missing space after ':', a missing quote, or a wrong indent?"),
+    ("could not find expected ':'", "a key without ':' or an unclosed quote?"),
+    ("expected <block end>", "the indentation does not line up with the lines above"),
+    ("found undefined alias", "an alias (*name) needs an anchor (&name) above it"),
+)
+
+
+def read_yaml(text: str, filename: str, empty: str = "the file is empty (it holds no YAML data)"):
+    """Parse YAML text into (data, lines): lines maps key paths to line numbers.
+
+    Rejects, as located :class:`~sizing.errors.InputError` s, syntax errors
+    (with a hint for the usual slips), control characters, duplicate keys,
+    aliases that contain themselves or expand past :data:`MAX_NODES`, and an
+    empty document (message ``empty``).
+    """
+    import yaml
+
+    try:
+        loader = yaml.SafeLoader(text)
+        try:
+            node = loader.get_single_node()
+            if node is None:
+                raise InputError(empty, filename, 1)
+            lines = _node_lines(node, filename)
+            data = loader.construct_document(node)
+        finally:
+            loader.dispose()
+    except yaml.MarkedYAMLError as e:
+        mark = e.problem_mark or e.context_mark
+        line = mark.line + 1 if mark else None
+        problem = e.problem or str(e)
+        hint = next((h for key, h in _YAML_HINTS if key in problem), "")
+        col = f" (column {mark.column + 1})" if mark else ""
+        cm = e.context_mark
+        if e.context and cm is not None and mark is not None and cm.line != mark.line:
+            problem += f"{col}, {e.context} that starts on line {cm.line + 1}"
+        else:
+            problem += col
+        raise InputError(f"YAML syntax: {problem}" + (f"; {hint}" if hint else ""), filename, line) from None
+    except yaml.reader.ReaderError as e:
+        line = text.count("\n", 0, max(e.position, 0)) + 1
+        ch = chr(e.character) if isinstance(e.character, int) else e.character
+        raise InputError(f"not YAML text: the control character {ch!r} cannot appear in a YAML file "
+                         f"(is it a binary file?)", filename, line) from None
+    except yaml.YAMLError as e:
+        raise InputError(f"YAML: {e}", filename) from None
+    except RecursionError:
+        raise InputError("the YAML is nested too deeply to be a requirement file", filename) from None
+    return data, lines
+
+
+def _node_lines(root, filename):
+    """Line of every key path; rejects duplicate keys, cyclic and exploding aliases."""
+    import yaml
+
+    lines: dict = {(): root.start_mark.line + 1}
+    stack = [(root, (), frozenset(), False)]
+    count = 0
+    while stack:
+        n, path, ancestors, merged = stack.pop()
+        count += 1
+        if count > MAX_NODES:
+            raise InputError(f"the file expands to more than {MAX_NODES:,} values (through aliases); "
+                             f"a requirement file is much smaller", filename, n.start_mark.line + 1)
+        if not isinstance(n, (yaml.MappingNode, yaml.SequenceNode)):
+            continue
+        if id(n) in ancestors:
+            raise InputError("an alias refers to a value that contains it (a cycle)", filename,
+                             n.start_mark.line + 1, _show_path(path))
+        inner = ancestors | {id(n)}
+        if isinstance(n, yaml.SequenceNode):
+            for i, item in enumerate(n.value):
+                lines.setdefault(path + (i,), item.start_mark.line + 1)
+                stack.append((item, path + (i,), inner, merged))
+            continue
+        seen: dict = {}
+        for k, v in n.value:
+            if isinstance(k, yaml.ScalarNode) and k.tag == "tag:yaml.org,2002:merge":
+                for m in (v.value if isinstance(v, yaml.SequenceNode) else [v]):
+                    stack.append((m, path, inner, True))
+                continue
+            key = k.value if isinstance(k, yaml.ScalarNode) else repr(k.value)
+            line = k.start_mark.line + 1
+            if key in seen and not merged:
+                raise InputError(f"duplicate key {key!r} (first on line {seen[key]}); YAML would keep only "
+                                 f"the last one, so remove or rename one", filename, line,
+                                 _show_path(path + (key,)))
+            seen[key] = line
+            if merged:
+                lines.setdefault(path + (key,), line)
+            else:
+                lines[path + (key,)] = line
+            stack.append((v, path + (key,), inner, merged))
+    return lines
+
+
+def _show_path(path) -> str:
+    out = ""
+    for item in path:
+        out += f"[{item}]" if isinstance(item, int) else ("." if out else "") + str(item)
+    return out or "(top level)"
+
+
+def is_dimension(q: Quantity, dim: str) -> bool:
+    """Whether a parsed quantity's text reads as the given dimension."""
+    try:
+        parse(q.text, dim)
+        return True
+    except UnitError:
+        return False
+
+
+def no_nulls(node):
+    """Drop pydantic's ``{"type": "null"}`` alternatives and null defaults: an
+    empty value is an error in a requirement file (leave the key out instead)."""
+    if isinstance(node, dict):
+        out = {}
+        for k, v in node.items():
+            if k == "default" and v is None:
+                continue
+            if k == "anyOf" and isinstance(v, list):
+                v = [a for a in v if a != {"type": "null"}]
+                if len(v) == 1 and isinstance(v[0], dict):
+                    inner = no_nulls(v[0])
+                    out.update({kk: vv for kk, vv in inner.items() if kk not in out})
+                    continue
+            out[k] = no_nulls(v)
+        return out
+    if isinstance(node, list):
+        return [no_nulls(v) for v in node]
+    return node
