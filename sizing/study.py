@@ -34,7 +34,7 @@ import os
 import re
 import sys
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -45,17 +45,13 @@ from .errors import InputError, SizingError
 
 STUDY_KEYS = ("title", "base", "sweep", "sample")
 SAMPLE_KEYS = ("count", "seed", "vary")
-DISTRIBUTIONS = {
-    "normal": "{normal: {mean: <value>, std: <value>}}",
-    "uniform": "{uniform: [<low>, <high>]}",
-    "triangular": "{triangular: [<low>, <mode>, <high>]}",
-}
+DISTRIBUTIONS = {"normal": "{normal: {mean: <value>, std: <value>}}", "uniform": "{uniform: [<low>, <high>]}",
+                 "triangular": "{triangular: [<low>, <mode>, <high>]}"}
 MAX_POINTS = 1_000_000
 VALIDATE_ALL = 50          # validate every distinct value of a path up to this many
 STATUS_OK, STATUS_INFEASIBLE, STATUS_FAILED = "optimal", "infeasible", "failed"
 _CODES = {0: STATUS_OK, 1: STATUS_INFEASIBLE, 2: STATUS_FAILED}
-# IPOPT outcomes that mean "no design meets everything" (the same set for which
-# Problem.solve diagnoses infeasibility instead of raising)
+# IPOPT outcomes for which Problem.solve diagnoses infeasibility instead of raising
 _INFEASIBLE_RETURNS = {"Infeasible_Problem_Detected", "Solve_Succeeded", "Solved_To_Acceptable_Level",
                        "Restoration_Failed", "Maximum_Iterations_Exceeded",
                        "Search_Direction_Becomes_Too_Small", "Converged_To_Local_Infeasibility"}
@@ -103,18 +99,6 @@ class Study:
         return [v.path for v in self.varied]
 
 
-def _err(msg, study_file, lines, key, fld=None):
-    if fld and msg.startswith(f"{fld}: "):
-        msg = msg[len(fld) + 2:]          # the field is shown once, by InputError
-    line = None
-    while key:
-        if key in lines:
-            line = lines[key]
-            break
-        key = key[:-1]
-    return InputError(msg, study_file, line, fld)
-
-
 def _split_value(v):
     """(number, unit text) of a value as written; None when it is not a value.
 
@@ -131,346 +115,260 @@ def _split_value(v):
         return None
     if isinstance(v, (int, float)):
         return float(v), ""
-    if isinstance(v, str):
-        m = _NUM_UNIT.match(v)
-        if m:
-            return float(m.group(1)), m.group(2)
-    return None
+    m = _NUM_UNIT.match(v) if isinstance(v, str) else None
+    return (float(m.group(1)), m.group(2)) if m else None
 
 
 def _as_raw(num: float, unit: str):
     """The raw YAML value for a number in a unit (what validation sees)."""
-    return float(num) if not unit else f"{float(num)!r} {unit}"
+    num = float(num)
+    return f"{format(num, 'g') if float(format(num, 'g')) == num else repr(num)} {unit}" if unit else num
 
 
-class _Paths:
-    """Resolves study paths in a base file and checks values against its schema."""
+def _shown(num, unit):
+    return f"{num:g}" + (f" {unit}" if unit else "")
+
+
+def _near(word, options):
+    near = difflib.get_close_matches(str(word), [str(o) for o in options], 1)
+    return f" (did you mean {near[0]!r}?)" if near else ""
+
+
+def _located(msg, study_file, lines, key, fld=None) -> InputError:
+    """An InputError at the line of ``key`` (or of its nearest parent) in the study file."""
+    while key and key not in lines:
+        key = key[:-1]
+    return InputError(msg, study_file, lines.get(key), fld)
+
+
+class _Reader:
+    """Reads one study: resolves its paths in the base file, checks values with its schema."""
 
     def __init__(self, spec, study_file, lines):
         self.spec, self.file, self.lines = spec, study_file, lines
         self.tree = M.spec_tree(spec)
         self.structure = M.structure_key(self.tree)
-        self.paths = [p for p, _ in M.flatten(self.tree)]
-        self.index = {p: i for i, p in enumerate(self.paths)}
+        self.index = {p: i for i, (p, _v) in enumerate(M.flatten(self.tree))}
         self._cache = {}
 
-    def resolve(self, text: str, key) -> tuple:
-        """(tree path, raw path) of a dotted path; InputError if it names no parameter."""
-        def fail(msg):
-            return _err(f"{text}: {msg}", self.file, self.lines, key, text)
+    def err(self, msg, key, fld=None) -> InputError:
+        return _located(msg, self.file, self.lines, key, fld)
 
-        parts = [p for p in str(text).split(".")]
-        if not text or any(p == "" for p in parts):
+    def value(self, v, key, fld):
+        sv = _split_value(v)
+        if sv is None:
+            raise self.err(f"{v!r} is not a value (a number, or a number with a unit such as '700 m')", key, fld)
+        return sv
+
+    def resolve(self, text, key) -> Varied:
+        """Where a dotted path points in the base file; InputError if it names no parameter."""
+        def fail(msg):
+            return self.err(msg, key, text)
+
+        parts = str(text).split(".")
+        if any(p == "" for p in parts):
             raise fail("write a dotted path such as requirements.<id>.<field> or aircraft.aerodynamics.cd0")
-        data, tree = self.spec.data, self.tree
-        head = parts[0]
+        head, rest = parts[0], parts[1:]
         if head in M._STRUCTURAL_KEYS:
             raise fail(f"{head!r} is structure of the problem, not a parameter a study can vary")
-        tops = [k for k in ("aircraft", "mission", "requirements") if k in tree]
+        tops = [k for k in ("aircraft", "mission", "requirements") if k in self.tree]
         if head not in tops:
-            near = difflib.get_close_matches(head, tops, 1)
-            raise fail(f"unknown section {head!r}" + (f" (did you mean {near[0]!r}?)" if near else "")
-                       + f"; a path starts with one of: {', '.join(tops)}")
-        rest = parts[1:]
-        tree_path, raw_path = (head,), (head,)
-        tnode, rnode = tree[head], data.get(head)
+            raise fail(f"unknown section {head!r}{_near(head, tops)}; a path starts with one of: {', '.join(tops)}")
+        tpath, rpath, tnode = (head,), (head,), self.tree[head]
         if head == "requirements":
-            ids = list(tnode.keys())
-            rid = None
-            for k in range(len(rest), 0, -1):        # ids may contain dots: longest match wins
-                if ".".join(rest[:k]) in tnode:
-                    rid, rest = ".".join(rest[:k]), rest[k:]
-                    break
+            rid = next((".".join(rest[:k]) for k in range(len(rest), 0, -1)   # ids may contain dots
+                        if ".".join(rest[:k]) in tnode), None)
             if rid is None:
                 got = rest[0] if rest else ""
-                near = difflib.get_close_matches(got, ids, 1)
-                raise fail(f"no requirement with id {got!r}" + (f" (did you mean {near[0]!r}?)" if near else "")
-                           + f"; ids in {self.spec.path}: {', '.join(ids)}")
-            pos = next(i for i, r in enumerate(rnode) if isinstance(r, dict) and r.get("id") == rid)
-            tree_path, raw_path = tree_path + (rid,), raw_path + (pos,)
-            tnode, rnode = tnode[rid], rnode[pos]
+                raise fail(f"no requirement with id {got!r}{_near(got, tnode)}; ids in {self.spec.path}: "
+                           f"{', '.join(tnode)}")
+            rest = rest[len(rid.split(".")):]
+            pos = next(i for i, r in enumerate(self.spec.data["requirements"]) if r.get("id") == rid)
+            tpath, rpath, tnode = tpath + (rid,), rpath + (pos,), tnode[rid]
         for i, part in enumerate(rest):
-            where = ".".join(parts[:len(parts) - len(rest) + i]) or head
+            where = ".".join(parts[:len(parts) - len(rest) + i])
             if isinstance(tnode, list):
-                j = None
-                if re.fullmatch(r"\d+", part):
-                    j = int(part)
-                else:
-                    names = [e.get("name") if isinstance(e, dict) else None for e in tnode]
-                    if part in names:
-                        j = names.index(part)
-                if j is None or not 0 <= j < len(tnode):
-                    raise fail(f"{where} is a list of {len(tnode)} entries; address one by index "
-                               f"0 to {len(tnode) - 1}" + (" or by segment name" if where.endswith("segments") else ""))
-                tree_path, raw_path = tree_path + (j,), raw_path + (j,)
-                tnode = tnode[j]
-                rnode = rnode[j] if isinstance(rnode, list) and j < len(rnode) else None
-                continue
-            if not isinstance(tnode, dict) or part not in tnode:
+                names = [e.get("name") if isinstance(e, dict) else None for e in tnode]
+                j = int(part) if part.isdigit() else (names.index(part) if part in names else None)
+                if j is None or j >= len(tnode):
+                    raise fail(f"{where} is a list of {len(tnode)} entries; address one by index 0 to "
+                               f"{len(tnode) - 1}" + (" or by segment name" if any(names) else ""))
+                part = j
+            elif not isinstance(tnode, dict) or part not in tnode:
                 keys = [k for k, v in tnode.items() if not isinstance(v, (str, bool))] if isinstance(tnode, dict) else []
-                near = difflib.get_close_matches(part, keys, 1)
-                hint = f" (did you mean {near[0]!r}?)" if near else ""
-                raise fail(f"no parameter {part!r} in {where}{hint}; parameters there: {', '.join(keys) or 'none'}"
-                           f" (a field the base file leaves unset cannot be varied: set it in the base file first)")
-            tree_path, raw_path = tree_path + (part,), raw_path + (part,)
-            tnode = tnode[part]
-            rnode = rnode.get(part) if isinstance(rnode, dict) else None
+                raise fail(f"no parameter {part!r} in {where}{_near(part, keys)}; parameters there: "
+                           f"{', '.join(keys) or 'none'} (a field the base file leaves unset cannot be varied: "
+                           f"set it in the base file first)")
+            tpath, rpath, tnode = tpath + (part,), rpath + (part,), tnode[part]
         if isinstance(tnode, dict):
             if M._is_table(tnode):
                 name = next(k for k in tnode if k != "mach")
                 raise fail(f"this is a Mach table; vary one entry, e.g. {text}.{name}.0 "
                            f"(entries 0 to {len(tnode[name]) - 1})")
             raise fail(f"this is a group ({', '.join(tnode)}), not a single value")
-        if tree_path not in self.index:
-            if len(tree_path) >= 2 and tree_path[-2] == "mach" and isinstance(tree_path[-1], int):
+        if tpath not in self.index:
+            if len(tpath) >= 2 and tpath[-2] == "mach":
                 raise fail("Mach-table breakpoints are the problem's structure, not parameters; a study "
                            "cannot move them (vary the table's values, or write one base file per breakpoint set)")
             raise fail(f"{tnode!r} is a setting of the problem's structure, not a numeric parameter")
-        return tree_path, raw_path
+        return Varied(str(text), tpath, rpath, self.index[tpath], "", self.lines.get(key))
 
-    def check(self, var_path, tree_path, raw_path, num, unit, key) -> float:
-        """Validate the base file with one value set; its SI value (raises InputError)."""
-        ck = (tree_path, num, unit)
-        if ck in self._cache:
-            return self._cache[ck]
-        return self.check_many([(tree_path, raw_path, num, unit)], key, var_path)
-
-    def check_many(self, settings, key, label) -> float:
-        """Validate the base file with several values set at once; SI of the first."""
+    def check(self, settings, key, fld):
+        """Validate the base file with values set [(target, number, unit)]; their SI values."""
         from .spec import validate
 
+        ck = tuple((t.tree_path, n, u) for t, n, u in settings)
+        if ck in self._cache:
+            return self._cache[ck]
         data = copy.deepcopy(self.spec.data)
-        for _tp, raw_path, num, unit in settings:
+        for t, num, unit in settings:
             node = data
-            for k in raw_path[:-1]:
-                if isinstance(node, dict) and k not in node:
-                    node[k] = {}
-                node = node[k]
-            node[raw_path[-1]] = _as_raw(num, unit)
-        shown = ", ".join(f"{_shown(n, u)}" for _tp, _rp, n, u in settings)
+            for k in t.raw_path[:-1]:
+                node = node.setdefault(k, {}) if isinstance(node, dict) else node[k]
+            node[t.raw_path[-1]] = _as_raw(num, unit)
+        shown = (_shown(*settings[0][1:]) if len(settings) == 1 else
+                 ", ".join(f"{t.path} = {_shown(n, u)}" for t, n, u in settings))
         try:
-            spec = validate(data, self.spec.path)
+            tree = M.spec_tree(validate(data, self.spec.path))
         except InputError as e:
-            raise _err(f"{label} = {shown} does not fit the base file {self.spec.path}: {e.message}",
-                       self.file, self.lines, key, label) from None
-        tree = M.spec_tree(spec)
+            raise self.err(f"{shown} does not fit the base file {self.spec.path}: {e.message}", key, fld) from None
         if M.structure_key(tree) != self.structure:
-            raise _err(f"{label} = {shown} changes the problem's structure (not only a parameter value); "
-                       f"a study re-solves one built problem, so it cannot vary this", self.file, self.lines, key, label)
-        out = None
-        for tp, _rp, num, unit in settings:
+            raise self.err(f"{shown} changes the problem's structure (not only a parameter value); a study "
+                           f"re-solves one built problem, so it cannot vary this", key, fld)
+        out = []
+        for t, _n, _u in settings:
             v = tree
-            for k in tp:
+            for k in t.tree_path:
                 v = v[k]
-            si = float(v)
-            if not math.isfinite(si):
-                raise _err(f"{label} = {shown} is not finite", self.file, self.lines, key, label)
-            if len(settings) == 1:
-                self._cache[(tp, num, unit)] = si
-            out = si if out is None else out
+            out.append(float(v))
+        self._cache[ck] = out
         return out
 
+    def si(self, t, nums, unit, key_of):
+        """SI values of one path's values (one unit): every distinct value validated when
+        there are few; otherwise the two extremes (the schema's checks are ranges, so
+        values between two valid ones are valid) and the affine map they define."""
+        nums = np.asarray(nums, dtype=float)
+        distinct = np.unique(nums)
+        if distinct.size <= VALIDATE_ALL:
+            table = {float(d): self.check([(t, float(d), unit)], key_of(float(d)), t.path)[0] for d in distinct}
+            return np.array([table[float(v)] for v in nums])
+        lo, hi = float(distinct[0]), float(distinct[-1])
+        s_lo, s_hi = (self.check([(t, v, unit)], key_of(v), t.path)[0] for v in (lo, hi))
+        return s_lo + (s_hi - s_lo) / (hi - lo) * (nums - lo)
 
-def _shown(num, unit):
-    return f"{num:g}" if not unit else f"{num:g} {unit}"
+    def corners(self, varied, cols, key, fld):
+        """Parameters together: every corner of their box must validate too."""
+        if 2 <= len(varied) <= 6:
+            for c in range(2 ** len(varied)):
+                self.check([(v, float(col.max() if c >> i & 1 else col.min()), v.unit)
+                            for i, (v, col) in enumerate(zip(varied, cols))], key, fld)
 
+    def sweep(self, sweep):
+        if not isinstance(sweep, dict) or not 1 <= len(sweep) <= 2:
+            raise self.err("sweep is a mapping of one or two parameter paths to their values, e.g. "
+                           "requirements.turn-4g.load_factor: [3.0, 3.5, 4.0]", ("sweep",), "sweep")
+        varied, axes_u, axes_s = [], [], []
+        for name, vals in sweep.items():
+            key, fld = ("sweep", name), str(name)
+            t = self.resolve(fld, key)
+            if any(v.tree_path == t.tree_path for v in varied):
+                raise self.err("this parameter is already swept", key, fld)
+            if isinstance(vals, list) and vals:
+                parsed = [self.value(v, key + (i,), fld) for i, v in enumerate(vals)]
+                unit = parsed[0][1]
+                odd = next((i for i, (_n, u) in enumerate(parsed) if u != unit), None)
+                if odd is not None:        # the schema's own message first (a missing unit, say), then ours
+                    self.check([(t, *parsed[odd])], key + (odd,), fld)
+                    raise self.err(f"write every value of the list in the same unit ({parsed[odd][1] or 'none'!r} "
+                                   f"here, {unit or 'none'!r} first)", key + (odd,), fld)
+                user = np.array([n for n, _u in parsed])
+                first = {}
+                for i, (n, _u) in enumerate(parsed):
+                    first.setdefault(n, i)
+                si = self.si(t, user, unit, lambda d: key + (first[d],))
+            elif isinstance(vals, dict) and set(vals) == {"from", "to", "steps"}:
+                steps = vals["steps"]
+                if isinstance(steps, bool) or not isinstance(steps, int) or not 2 <= steps <= MAX_POINTS:
+                    raise self.err(f"steps must be a whole number from 2 up, got {steps!r}", key + ("steps",), fld)
+                (a, unit), (b, unit_b) = (self.value(vals[k], key + (k,), fld) for k in ("from", "to"))
+                if unit != unit_b or a == b:
+                    raise self.err("write from and to in the same unit" if unit != unit_b else
+                                   "from and to are equal; give a list for a single value", key + ("to",), fld)
+                user = np.linspace(a, b, steps)
+                ends = {a: key + ("from",), b: key + ("to",)}
+                si = self.si(t, user, unit, lambda d: ends.get(d, key))
+            else:
+                raise self.err(f"give a list of values or {{from: <value>, to: <value>, steps: <count>}}, "
+                               f"got {vals!r}", key, fld)
+            varied.append(replace(t, unit=unit))
+            axes_u.append(user)
+            axes_s.append(si)
+        shape = tuple(len(a) for a in axes_u)
+        if math.prod(shape) > MAX_POINTS:
+            raise self.err(f"the sweep has {math.prod(shape):,} points; at most {MAX_POINTS:,}", ("sweep",), "sweep")
+        self.corners(varied, axes_u, ("sweep",), "sweep")
+        user = np.stack([g.ravel() for g in np.meshgrid(*axes_u, indexing="ij")], axis=1)
+        si = np.stack([g.ravel() for g in np.meshgrid(*axes_s, indexing="ij")], axis=1)
+        return varied, user, si, shape
 
-def _values_si(paths, var, tree_path, raw_path, nums, unit, key_of):
-    """SI values of one path's user values (all in one unit).
-
-    Every distinct value is validated when there are few; otherwise the two
-    extremes (the schema's checks are ranges, so values between two valid
-    extremes are valid) and the values in between mapped by the affine map
-    the two define.
-    """
-    nums = np.asarray(nums, dtype=float)
-    distinct = np.unique(nums)
-    if distinct.size <= VALIDATE_ALL:
-        table = {float(d): paths.check(var, tree_path, raw_path, float(d), unit, key_of(float(d))) for d in distinct}
-        return np.array([table[float(v)] for v in nums])
-    lo, hi = float(distinct[0]), float(distinct[-1])
-    s_lo = paths.check(var, tree_path, raw_path, lo, unit, key_of(lo))
-    s_hi = paths.check(var, tree_path, raw_path, hi, unit, key_of(hi))
-    return s_lo + (s_hi - s_lo) / (hi - lo) * (nums - lo)
-
-
-def _parse_sweep(paths, sweep, study_file, lines):
-    if not isinstance(sweep, dict) or not 1 <= len(sweep) <= 2:
-        raise _err("sweep is a mapping of one or two parameter paths to their values, e.g. "
-                   "requirements.turn-4g.load_factor: [3.0, 3.5, 4.0]", study_file, lines, ("sweep",), "sweep")
-    varied, axes_user, axes_si, seen = [], [], [], set()
-    for name, spec_v in sweep.items():
-        key = ("sweep", name)
-        tree_path, raw_path = paths.resolve(str(name), key)
-        if tree_path in seen:
-            raise _err(f"{name}: this parameter is already swept", study_file, lines, key, str(name))
-        seen.add(tree_path)
-        if isinstance(spec_v, list):
-            if not spec_v:
-                raise _err(f"{name}: give at least one value", study_file, lines, key, str(name))
-            parsed = []
-            for i, v in enumerate(spec_v):
-                sv = _split_value(v)
-                if sv is None:
-                    raise _err(f"{name}: {v!r} is not a value (a number, or a number with a unit such "
-                               f"as '700 m')", study_file, lines, key + (i,), str(name))
-                parsed.append(sv)
-            unit = parsed[0][1]
-            odd = next((i for i, (_n, u) in enumerate(parsed) if u != unit), None)
-            if odd is not None:
-                # the schema's own message first (a missing unit, say), then ours
-                paths.check(str(name), tree_path, raw_path, parsed[odd][0], parsed[odd][1], key + (odd,))
-                raise _err(f"{name}: write every value of the list in the same unit ({parsed[odd][1] or 'none'!r} "
-                           f"here, {unit or 'none'!r} first)", study_file, lines, key + (odd,), str(name))
-            user = np.array([n for n, _ in parsed])
-            first = {}
-            for i, (n, _u) in enumerate(parsed):
-                first.setdefault(n, i)
-            si = _values_si(paths, str(name), tree_path, raw_path, user, unit, lambda d: key + (first[d],))
-        elif isinstance(spec_v, dict):
-            extra = sorted(set(spec_v) - {"from", "to", "steps"})
-            if extra or not {"from", "to", "steps"} <= set(spec_v):
-                raise _err(f"{name}: a range is {{from: <value>, to: <value>, steps: <count>}}"
-                           + (f"; unknown key {extra[0]!r}" if extra else ""), study_file, lines, key, str(name))
-            steps = spec_v["steps"]
-            if isinstance(steps, bool) or not isinstance(steps, int) or not 2 <= steps <= MAX_POINTS:
-                raise _err(f"{name}: steps must be a whole number from 2 up, got {steps!r}", study_file, lines,
-                           key + ("steps",), str(name))
-            a, b = _split_value(spec_v["from"]), _split_value(spec_v["to"])
-            for k, sv in (("from", a), ("to", b)):
-                if sv is None:
-                    raise _err(f"{name}: {k} {spec_v[k]!r} is not a value (a number, or a number with a unit)",
-                               study_file, lines, key + (k,), str(name))
-            if a[1] != b[1]:
-                raise _err(f"{name}: write from and to in the same unit (got {a[1] or 'none'!r} and "
-                           f"{b[1] or 'none'!r})", study_file, lines, key + ("to",), str(name))
-            if a[0] == b[0]:
-                raise _err(f"{name}: from and to are equal; give a list for a single value", study_file, lines,
-                           key + ("to",), str(name))
-            unit = a[1]
-            user = np.linspace(a[0], b[0], steps)
-            s_a = paths.check(str(name), tree_path, raw_path, a[0], unit, key + ("from",))
-            s_b = paths.check(str(name), tree_path, raw_path, b[0], unit, key + ("to",))
-            si = s_a + (s_b - s_a) * (user - a[0]) / (b[0] - a[0])
-            if steps <= VALIDATE_ALL:
-                si = np.array([paths.check(str(name), tree_path, raw_path, float(u), unit, key) for u in user])
-        else:
-            raise _err(f"{name}: give a list of values or {{from, to, steps}}, got {spec_v!r}", study_file, lines,
-                       key, str(name))
-        varied.append(Varied(str(name), tree_path, raw_path, paths.index[tree_path], unit, lines.get(key)))
-        axes_user.append(np.asarray(user, float))
-        axes_si.append(np.asarray(si, float))
-    shape = tuple(len(a) for a in axes_user)
-    if math.prod(shape) > MAX_POINTS:
-        raise _err(f"the sweep has {math.prod(shape):,} points; at most {MAX_POINTS:,}", study_file, lines,
-                   ("sweep",), "sweep")
-    if len(varied) == 2:
-        # the two parameters together: the corners of the box must validate too
-        for i in (0, -1):
-            for j in (0, -1):
-                paths.check_many([(v.tree_path, v.raw_path, float(ax[k]), v.unit)
-                                  for v, ax, k in zip(varied, axes_user, (i, j))], ("sweep",), "sweep")
-    grids_u = np.meshgrid(*axes_user, indexing="ij")
-    grids_s = np.meshgrid(*axes_si, indexing="ij")
-    user = np.stack([g.ravel() for g in grids_u], axis=1)
-    si = np.stack([g.ravel() for g in grids_s], axis=1)
-    return varied, user, si, shape
-
-
-def _draw(rng, kind, args, count):
-    if kind == "normal":
-        return rng.normal(args[0], args[1], count)
-    if kind == "uniform":
-        return rng.uniform(args[0], args[1], count)
-    return rng.triangular(args[0], args[1], args[2], count)
-
-
-def _parse_sample(paths, sample, study_file, lines):
-    key0 = ("sample",)
-    if not isinstance(sample, dict):
-        raise _err("sample is a mapping with count, seed and vary", study_file, lines, key0, "sample")
-    for k in sample:
-        if k not in SAMPLE_KEYS:
-            near = difflib.get_close_matches(str(k), SAMPLE_KEYS, 1)
-            raise _err(f"unknown key {k!r} in sample" + (f" (did you mean {near[0]!r}?)" if near else "")
-                       + f"; valid keys: {', '.join(SAMPLE_KEYS)}", study_file, lines, key0 + (k,), f"sample.{k}")
-    count, seed, vary = sample.get("count"), sample.get("seed", 0), sample.get("vary")
-    if isinstance(count, bool) or not isinstance(count, int) or not 1 <= count <= MAX_POINTS:
-        raise _err(f"sample.count must be a whole number from 1 to {MAX_POINTS:,}, got {count!r}", study_file, lines,
-                   key0 + ("count",), "sample.count")
-    if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0:
-        raise _err(f"sample.seed must be a non-negative whole number, got {seed!r}", study_file, lines,
-                   key0 + ("seed",), "sample.seed")
-    if not isinstance(vary, dict) or not vary:
-        raise _err("sample.vary maps parameter paths to distributions, e.g. aircraft.aerodynamics.cd0: "
-                   "{normal: {mean: 0.020, std: 0.002}}", study_file, lines, key0 + ("vary",), "sample.vary")
-    rng = np.random.Generator(np.random.PCG64(seed))
-    varied, cols_u, cols_s, dists, seen = [], [], [], {}, set()
-    for name, dist in vary.items():
-        key = key0 + ("vary", name)
-        label = str(name)
-        tree_path, raw_path = paths.resolve(label, key)
-        if tree_path in seen:
-            raise _err(f"{label}: this parameter is already varied", study_file, lines, key, label)
-        seen.add(tree_path)
-        valid = "; ".join(DISTRIBUTIONS.values())
-        if not isinstance(dist, dict) or len(dist) != 1 or next(iter(dist)) not in DISTRIBUTIONS:
-            got = next(iter(dist)) if isinstance(dist, dict) and dist else dist
-            near = difflib.get_close_matches(str(got), list(DISTRIBUTIONS), 1)
-            raise _err(f"{label}: unknown distribution {got!r}" + (f" (did you mean {near[0]!r}?)" if near else "")
-                       + f"; write one of {valid}", study_file, lines, key, label)
-        kind, a = next(iter(dist.items()))
-        kkey = key + (kind,)
-        if kind == "normal":
-            if not isinstance(a, dict) or set(a) != {"mean", "std"}:
-                raise _err(f"{label}: {DISTRIBUTIONS['normal']}", study_file, lines, kkey, label)
-            raw_args = [a["mean"], a["std"]]
-        else:
-            n_args = 2 if kind == "uniform" else 3
-            if not isinstance(a, list) or len(a) != n_args:
-                raise _err(f"{label}: {DISTRIBUTIONS[kind]}", study_file, lines, kkey, label)
-            raw_args = list(a)
-        parsed = [_split_value(v) for v in raw_args]
-        if any(p is None for p in parsed):
-            bad = raw_args[[p is None for p in parsed].index(True)]
-            raise _err(f"{label}: {bad!r} is not a value (a number, or a number with a unit)", study_file, lines,
-                       kkey, label)
-        units_ = {u for _, u in parsed}
-        if len(units_) != 1:
-            raise _err(f"{label}: write every argument of the distribution in the same unit "
-                       f"(got {', '.join(sorted(repr(u) for u in units_))})", study_file, lines, kkey, label)
-        unit = parsed[0][1]
-        nums = [n for n, _ in parsed]
-        if kind == "normal" and not nums[1] > 0:
-            raise _err(f"{label}: std must be positive, got {nums[1]:g}", study_file, lines, kkey, label)
-        if kind == "uniform" and not nums[1] > nums[0]:
-            raise _err(f"{label}: uniform [low, high] needs low < high", study_file, lines, kkey, label)
-        if kind == "triangular" and not (nums[0] <= nums[1] <= nums[2] and nums[0] < nums[2]):
-            raise _err(f"{label}: triangular [low, mode, high] needs low <= mode <= high, low < high",
-                       study_file, lines, kkey, label)
-        draws = _draw(rng, kind, nums, count)
-        lo, hi = float(draws.min()), float(draws.max())
-        try:
-            s_lo = paths.check(label, tree_path, raw_path, lo, unit, kkey)
-            s_hi = paths.check(label, tree_path, raw_path, hi, unit, kkey) if hi != lo else s_lo
-        except InputError as e:
-            e.message = (f"the {kind} distribution draws values from {_shown(lo, unit)} to {_shown(hi, unit)} "
-                         f"in {count:,} samples, not all valid: {e.message}; narrow the distribution")
-            e.args = (e.describe(),)
-            raise
-        si = s_lo + (s_hi - s_lo) * (draws - lo) / (hi - lo) if hi != lo else np.full(count, s_lo)
-        varied.append(Varied(label, tree_path, raw_path, paths.index[tree_path], unit, lines.get(key)))
-        cols_u.append(draws)
-        cols_s.append(si)
-        dists[label] = {kind: nums, "unit": unit}
-    if 2 <= len(varied) <= 6:
-        # parameters together: every corner of the drawn box must validate
-        for corner in range(2 ** len(varied)):
-            settings = [(v.tree_path, v.raw_path,
-                         float(cols_u[i].max() if corner >> i & 1 else cols_u[i].min()), v.unit)
-                        for i, v in enumerate(varied)]
-            paths.check_many(settings, key0 + ("vary",), "sample.vary")
-    return varied, np.stack(cols_u, axis=1), np.stack(cols_s, axis=1), (count,), seed, dists
+    def sample(self, sample):
+        key0 = ("sample",)
+        if not isinstance(sample, dict):
+            raise self.err("sample is a mapping with count, seed and vary", key0, "sample")
+        for k in sample:
+            if k not in SAMPLE_KEYS:
+                raise self.err(f"unknown key {k!r} in sample{_near(k, SAMPLE_KEYS)}; valid keys: "
+                               f"{', '.join(SAMPLE_KEYS)}", key0 + (k,), f"sample.{k}")
+        count, seed, vary = sample.get("count"), sample.get("seed", 0), sample.get("vary")
+        for name, v, lo in (("count", count, 1), ("seed", seed, 0)):
+            if isinstance(v, bool) or not isinstance(v, int) or not lo <= v <= (MAX_POINTS if lo else 2 ** 63):
+                raise self.err(f"sample.{name} must be a whole number from {lo} up"
+                               + (f" to {MAX_POINTS:,}" if lo else "") + f", got {v!r}", key0 + (name,),
+                               f"sample.{name}")
+        if not isinstance(vary, dict) or not vary:
+            raise self.err("sample.vary maps parameter paths to distributions, e.g. aircraft.aerodynamics.cd0: "
+                           "{normal: {mean: 0.020, std: 0.002}}", key0 + ("vary",), "sample.vary")
+        rng = np.random.Generator(np.random.PCG64(seed))
+        varied, cols_u, cols_s, dists = [], [], [], {}
+        for name, dist in vary.items():
+            key, fld = key0 + ("vary", name), str(name)
+            t = self.resolve(fld, key)
+            if any(v.tree_path == t.tree_path for v in varied):
+                raise self.err("this parameter is already varied", key, fld)
+            kind = next(iter(dist)) if isinstance(dist, dict) and len(dist) == 1 else None
+            if kind not in DISTRIBUTIONS:
+                raise self.err(f"unknown distribution {kind or dist!r}{_near(kind, DISTRIBUTIONS)}; write one of "
+                               + "; ".join(DISTRIBUTIONS.values()), key, fld)
+            a, kkey = dist[kind], key + (kind,)
+            raw = ([a.get("mean"), a.get("std")] if isinstance(a, dict) and set(a) == {"mean", "std"} else
+                   list(a) if kind != "normal" and isinstance(a, list) and len(a) == (2 if kind == "uniform" else 3)
+                   else None)
+            if raw is None:
+                raise self.err(f"write {DISTRIBUTIONS[kind]}", kkey, fld)
+            parsed = [self.value(v, kkey, fld) for v in raw]
+            unit, nums = parsed[0][1], [n for n, _u in parsed]
+            if any(u != unit for _n, u in parsed):
+                raise self.err("write every argument of the distribution in the same unit", kkey, fld)
+            if not ((kind == "normal" and nums[1] > 0) or (kind == "uniform" and nums[1] > nums[0]) or
+                    (kind == "triangular" and nums[0] <= nums[1] <= nums[2] and nums[0] < nums[2])):
+                raise self.err(f"{kind} needs " + {"normal": "std > 0", "uniform": "low < high",
+                                                   "triangular": "low <= mode <= high, low < high"}[kind], kkey, fld)
+            draws = getattr(rng, kind)(*nums, count)
+            lo, hi = float(draws.min()), float(draws.max())
+            try:
+                s_lo, s_hi = (self.check([(t, v, unit)], kkey, fld)[0] for v in (lo, hi))
+            except InputError as e:
+                e.message = (f"the {kind} distribution draws values from {_shown(lo, unit)} to {_shown(hi, unit)} "
+                             f"in {count:,} samples, not all valid: {e.message}; narrow the distribution")
+                e.args = (e.describe(),)
+                raise
+            cols_s.append(s_lo + (s_hi - s_lo) * (draws - lo) / (hi - lo) if hi > lo else np.full(count, s_lo))
+            cols_u.append(draws)
+            varied.append(replace(t, unit=unit))
+            dists[t.path] = {kind: nums, "unit": unit}
+        self.corners(varied, cols_u, key0 + ("vary",), "sample.vary")
+        return varied, np.stack(cols_u, axis=1), np.stack(cols_s, axis=1), (count,), seed, dists
 
 
 def load_study(source, base_dir=None) -> Study:
@@ -484,7 +382,7 @@ def load_study(source, base_dir=None) -> Study:
 
     if isinstance(source, dict):
         data, lines, study_file = copy.deepcopy(source), {}, "<study>"
-        folder = Path(base_dir) if base_dir is not None else Path.cwd()
+        folder = Path(base_dir) if base_dir is not None else Path(".")
     else:
         study_file = str(source)
         try:
@@ -498,279 +396,206 @@ def load_study(source, base_dir=None) -> Study:
         raise InputError("a study file is a mapping with base and sweep (or sample)", study_file, 1)
     for k in data:
         if k not in STUDY_KEYS:
-            near = difflib.get_close_matches(str(k), STUDY_KEYS, 1)
-            raise _err(f"unknown key {k!r}" + (f" (did you mean {near[0]!r}?)" if near else "")
-                       + f"; valid keys: {', '.join(STUDY_KEYS)}", study_file, lines, (k,), str(k))
+            raise _located(f"unknown key {k!r}{_near(k, STUDY_KEYS)}; valid keys: {', '.join(STUDY_KEYS)}",
+                           study_file, lines, (k,), str(k))
     base_rel = data.get("base")
     if not isinstance(base_rel, str) or not base_rel.strip():
-        raise _err("missing base: the requirement file the study varies, relative to the study file",
-                   study_file, lines, ("base",), "base")
+        raise _located("missing base: the requirement file the study varies, relative to the study file",
+                       study_file, lines, ("base",), "base")
     base_file = Path(os.path.normpath(folder / base_rel))
     if not base_file.is_file():
-        raise _err(f"base file {base_rel!r} not found (looked for {base_file})", study_file, lines, ("base",), "base")
-    spec = load(base_file)
+        raise _located(f"base file {base_rel!r} not found (looked for {base_file})", study_file, lines,
+                       ("base",), "base")
     if ("sweep" in data) == ("sample" in data):
-        raise _err("give either sweep (one or two parameters) or sample (Monte Carlo), not both or neither",
-                   study_file, lines, ("sample",) if "sample" in data else (), "sweep")
-    paths = _Paths(spec, study_file, lines)
+        raise _located("give either sweep (one or two parameters) or sample (Monte Carlo), not both or neither",
+                       study_file, lines, ("sample",) if "sample" in data else (), "sweep")
+    spec = load(base_file)
+    reader = _Reader(spec, study_file, lines)
     title = str(data.get("title") or f"Trade study on {spec.title}")
     if "sweep" in data:
-        varied, user, si, shape = _parse_sweep(paths, data["sweep"], study_file, lines)
-        return Study(study_file, title, str(base_file), spec, "sweep", varied, user, si, shape)
-    varied, user, si, shape, seed, dists = _parse_sample(paths, data["sample"], study_file, lines)
+        return Study(study_file, title, str(base_file), spec, "sweep", *reader.sweep(data["sweep"]))
+    varied, user, si, shape, seed, dists = reader.sample(data["sample"])
     return Study(study_file, title, str(base_file), spec, "sample", varied, user, si, shape, seed, dists)
 
 
 # --------------------------------------------------------------------------
-# Solving chunks (runs in worker processes; no Problem crosses a process)
+# Solving chunks (in the worker processes; no Problem crosses a process)
 # --------------------------------------------------------------------------
 
-# The study's own warm-start solver for the neighbour-to-neighbour steps: the same
-# NLP (the Problem's expressions), the same tolerances, IPOPT's warm-start options
-# with a monotone barrier started small, and an iteration cap: a step to a close
-# neighbour converges in a few iterations, and one that does not is handed to
-# Problem.solve_raw with every starting point instead of running on.
+# The study's own solver for the step from a neighbour: the Problem's NLP and
+# tolerances with IPOPT's warm-start options, a monotone barrier started small and
+# an iteration cap; a step that does not settle goes to Problem.solve_raw instead.
 WARM_MAX_ITER = 60
 _WARM_OPTIONS = {"ipopt.warm_start_init_point": "yes", "ipopt.warm_start_bound_push": 1e-10,
                  "ipopt.warm_start_mult_bound_push": 1e-10, "ipopt.mu_strategy": "monotone",
                  "ipopt.mu_init": 1e-8, "ipopt.max_iter": WARM_MAX_ITER}
-
-
-def _warm_solver(prob):
-    import casadi as ca
-
-    from .solve import _IPOPT
-
-    nlp = {"x": prob._x, "p": prob._P, "f": prob._f_expr, "g": prob._g_expr}
-    return ca.nlpsol("study_warm", "ipopt", nlp, {**_IPOPT, **_WARM_OPTIONS})
+_SUCCESS = ("Solve_Succeeded", "Solved_To_Acceptable_Level")
 
 
 class _Context:
-    """A worker's built problem for one base file, and its solved base point."""
+    """A worker's problem for one base file (built once), its solved base point."""
 
     def __init__(self, job):
-        from .solve import Problem
+        import casadi as ca
+
+        from .solve import _IPOPT, Problem
         from .spec import validate
 
-        self.spec = validate(copy.deepcopy(job["data"]), job["filename"])
-        # a fresh Problem (not the structure cache): its scaling comes from the base
+        spec = validate(copy.deepcopy(job["data"]), job["filename"])
+        # a fresh Problem, not the structure cache: its scaling comes from the base
         # file in every process, so every executor solves the very same problem
-        self.prob = Problem(self.spec)
-        self.p0 = self.prob.parameters(self.spec)
+        self.prob = prob = Problem(spec)
+        self.p0 = prob.parameters(spec)
         self.index = np.asarray(job["index"], dtype=int)
         self.confirm = bool(job.get("confirm", True))
-        x, lg, lx, _st, ok = self.prob.solve_raw(self.p0)
+        x, lg, lx, _st, ok = prob.solve_raw(self.p0)
         self.base_warm = (x, lg, lx) if ok else None
-        self.warm_solver = _warm_solver(self.prob)
+        nlp = {"x": prob._x, "p": prob._P, "f": prob._f_expr, "g": prob._g_expr}
+        self.warm_solver = ca.nlpsol("study_warm", "ipopt", nlp, {**_IPOPT, **_WARM_OPTIONS})
+        self.weight_fraction = {rid: prob.paths.index(("requirements", rid, "weight_fraction"))
+                                for rid in prob.req_ids if ("requirements", rid, "weight_fraction") in prob.paths}
+
+    def params(self, values):
+        p = self.p0.copy()
+        p[self.index] = values
+        return p
 
 
 _CONTEXTS: dict = {}
 
 
 def _context(job) -> _Context:
-    ctx = _CONTEXTS.get(job["key"])
-    if ctx is None:
+    if job["key"] not in _CONTEXTS:
         _CONTEXTS.clear()
-        ctx = _CONTEXTS[job["key"]] = _Context(job)
-    return ctx
+        _CONTEXTS[job["key"]] = _Context(job)
+    return _CONTEXTS[job["key"]]
 
 
-def _drivers(prob, x, p):
-    """Active requirements from the constraint rows (the rule of Problem._package)."""
+def _rows(prob, x, p):
+    return np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
+
+
+def _drivers(ctx, x, p):
+    """Active requirements from the constraint rows, by the rule of Problem._package."""
     from .solve import ACTIVE_TOL
 
-    g = np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
+    prob = ctx.prob
+    g = _rows(prob, x, p)
     W_S, Y = x[0] * prob.WS_scale, x[1] * prob.Y_scale
-    index = {path: i for i, path in enumerate(prob.paths)}
     worst = {}
     for (rid, what), v in zip(prob.rows, g):
         if what == "thrust":
-            need = Y - v * prob.Y_scale
-            margin = Y / need - 1.0
-        elif what == "wing_loading":
-            margin = v * prob.WS_scale / W_S
-        elif what == "stall":
-            # q CLmax / (beta W/S) - 1; beta as given (1 for "after:" fractions, which
-            # only rescales a margin that is either ~0 or far above the tolerance)
-            j = index.get(("requirements", rid, "weight_fraction"))
-            beta = float(p[j]) if j is not None else 1.0
-            margin = v * prob.WS_scale / (beta * W_S)
+            margin = Y / (Y - v * prob.Y_scale) - 1.0
+        elif what in ("wing_loading", "stall"):
+            # stall: q CLmax / (beta W/S) - 1 with beta as given (1 for "after:" fractions,
+            # which only rescales a margin that is either ~0 or far above the tolerance)
+            j = ctx.weight_fraction.get(rid) if what == "stall" else None
+            margin = v * prob.WS_scale / (W_S * (float(p[j]) if j is not None else 1.0))
         else:
             continue
         worst[rid] = min(worst.get(rid, math.inf), margin)
     drivers = [rid for rid in prob.req_ids if worst.get(rid, math.inf) <= ACTIVE_TOL]
-    try:
-        mission = prob._mission_drives(x, p, prob.rows, g)
-    except TypeError:          # the older signature (x, p, drivers)
-        mission = prob._mission_drives(x, p, drivers)
-    if mission:
-        drivers.append("mission fuel")
-    return drivers
+    return drivers + (["mission fuel"] if prob._mission_drives(x, p, prob.rows, g) else [])
 
 
-def _rows_ok(prob, vals) -> np.ndarray:
+def _rows_ok(prob, vals, tol_closure=1e-6, tol=None) -> np.ndarray:
     """The acceptance rule of Problem.verify on constraint rows (scalars or arrays)."""
     from .solve import VERIFY_TOL
 
+    tol = VERIFY_TOL if tol is None else tol
     ok = True
     for (_rid, what), v in zip(prob.rows, vals):
         v = np.asarray(v, dtype=float)
-        good = np.isfinite(v) & ((np.abs(v) <= 1e-6) if what == "closure" else (v >= -VERIFY_TOL))
-        ok = ok & good
+        ok = ok & np.isfinite(v) & ((np.abs(v) <= tol_closure) if what == "closure" else (v >= -tol))
     return np.asarray(ok, dtype=bool)
 
 
 def _solve_point(ctx, p, warm):
-    """(code, x, (x, lam_g, lam_x) or None, iterations, checked_in_numpy) for one point.
+    """(code, x, warm data or None, iterations, checked in numpy) for one point.
 
-    Fast path: one warm-started IPOPT solve from the neighbour (capped at
-    WARM_MAX_ITER iterations), accepted when IPOPT succeeds and every
-    constraint row holds (rows evaluated by CasADi; the plain-numpy check
-    follows for the whole chunk at once, see :func:`_verify_chunk`).
-    Otherwise Problem.solve_raw with the single solve's starting points,
-    numpy-verified there.
+    One warm-started step from the neighbour, accepted when IPOPT succeeds and
+    every constraint row holds (CasADi rows; the plain-numpy check follows for
+    the whole chunk, :func:`_verify_chunk`). Otherwise every starting point of a
+    single solve (Problem.solve_raw, verified in numpy): a point called
+    infeasible is one ``sizing solve`` calls infeasible too. With
+    ``confirm_infeasible=False``: infeasible when the step fails and the
+    single solve's coarse W/S scan (Problem.initial_guess) finds no design.
     """
-    prob = ctx.prob
-    iters = 0
-    warm_status = None
+    prob, iters, x = ctx.prob, 0, None
     if warm is not None:
-        x0, lg, lx = warm
         solver = ctx.warm_solver
-        sol = solver(x0=x0, p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg, lam_g0=lg, lam_x0=lx)
+        sol = solver(x0=warm[0], p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg,
+                     lam_g0=warm[1], lam_x0=warm[2])
         st = solver.stats()
-        iters = st.get("iter_count", 0) or 0
-        warm_status = st.get("return_status")
-        x = np.array(sol["x"]).ravel()
-        if warm_status in ("Solve_Succeeded", "Solved_To_Acceptable_Level"):
-            g = np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
-            if _rows_ok(prob, g):
-                return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
-    if not ctx.confirm and warm_status is not None and not _scan_feasible(prob, p):
-        # quick verdict: IPOPT found no feasible design from the neighbour's answer
-        # (within WARM_MAX_ITER) and the single solve's coarse W/S scan finds none either
-        return 1, x, None, iters, True
-    # every starting point of a single solve (exactly what sizing.solve.solve tries),
-    # so a point called infeasible here is one the single solve calls infeasible too
-    x, lg2, lx2, st, ok = prob.solve_raw(p)
+        iters, x = st.get("iter_count", 0) or 0, np.array(sol["x"]).ravel()
+        if st.get("return_status") in _SUCCESS and _rows_ok(prob, _rows(prob, x, p)):
+            return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
+        if not ctx.confirm:
+            guess = prob.initial_guess(p)
+            if not _rows_ok(prob, _rows(prob, guess, p), 1e-3, 1e-3):
+                return 1, x, None, iters, True
+    x, lg, lx, st, ok = prob.solve_raw(p)
     iters += st.get("iter_count", 0) or 0
     if ok:
-        return 0, x, (x, lg2, lx2), iters, True
-    code = 1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2
-    return code, x, None, iters, True
-
-
-def _scan_feasible(prob, p, tol=1e-3) -> bool:
-    """Whether the coarse numpy W/S scan of Problem.initial_guess finds a design.
-
-    The scan's best point is a feasible, closed design when one exists on its
-    grid (it minimises the closed mass over the points that meet every
-    requirement); otherwise it is the least-thrust point, which violates a
-    row or the closure.
-    """
-    x = prob.initial_guess(p)
-    g = np.array(prob._g_fun(x, p)[0], dtype=float).ravel()
-    for (_rid, what), v in zip(prob.rows, g):
-        if not np.isfinite(v) or (abs(v) > tol if what == "closure" else v < -tol):
-            return False
-    return True
+        return 0, x, (x, lg, lx), iters, True
+    return (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2), x, None, iters, True
 
 
 def _verify_chunk(ctx, X, P):
-    """Plain-numpy re-evaluation of every constraint at many answers at once.
-
-    X: (n, nx) solutions, P: (n, k) values of the varied parameters. The
-    expressions are the solver's own (Problem.expressions), on arrays; where
-    they cannot take arrays, point by point with Problem.verify.
-    """
+    """Plain-numpy re-evaluation of every constraint at many answers at once: the
+    solver's own expressions (Problem.expressions) on arrays, or point by point
+    with Problem.verify where a model takes only scalars."""
     prob = ctx.prob
-    n = X.shape[0]
-    if n == 0:
-        return np.zeros(0, dtype=bool)
     try:
         values = {path: float(ctx.p0[i]) for i, path in enumerate(prob.paths)}
-        for j, i in enumerate(ctx.index):
-            values[prob.paths[i]] = P[:, j].copy()
-        tree = M.substitute(prob.tree0, values)
+        values.update({prob.paths[i]: P[:, j].copy() for j, i in enumerate(ctx.index)})
         V = {rid: X[:, 3 + i] * prob.V_scale for i, rid in enumerate(prob.free)}
         with np.errstate(all="ignore"):
-            _rows, vals, *_ = prob.expressions(tree, X[:, 0] * prob.WS_scale, X[:, 1] * prob.Y_scale,
-                                               X[:, 2] * prob.m_ref, V)
-        ok = np.broadcast_to(_rows_ok(prob, vals), (n,)).copy()
-        if ok.shape == (n,):
-            return ok
-    except Exception:  # noqa: BLE001 - a model that takes only scalars: check one by one
-        pass
-    out = np.empty(n, dtype=bool)
-    for i in range(n):
-        p = ctx.p0.copy()
-        p[ctx.index] = P[i]
-        out[i] = prob.verify(X[i], p)
-    return out
+            _r, vals, *_ = prob.expressions(M.substitute(prob.tree0, values), X[:, 0] * prob.WS_scale,
+                                            X[:, 1] * prob.Y_scale, X[:, 2] * prob.m_ref, V)
+        return np.broadcast_to(_rows_ok(prob, vals), (X.shape[0],)).copy()
+    except Exception:  # noqa: BLE001 - a model that takes only scalars: one by one
+        return np.array([prob.verify(X[i], ctx.params(P[i])) for i in range(X.shape[0])], dtype=bool)
 
 
 def _run_chunk(job, chunk):
-    """Solve one chunk: (chunk id, point indices, normalised coordinates, SI values).
-
-    Each point warm-starts from the nearest point of the chunk already solved
-    (the first from the base point). Returns a dict of arrays.
-    """
+    """Solve one chunk (id, point indices, normalised coordinates, SI values), each
+    point warm-started from the nearest one of the chunk already solved (the
+    first from the base point); a dict of arrays."""
     cid, idx, Z, P = chunk
     ctx = _context(job)
-    prob = ctx.prob
-    n = len(idx)
+    prob, n, t0 = ctx.prob, len(idx), time.perf_counter()
     code = np.full(n, 2, dtype=np.int8)
     X = np.full((n, len(prob.lbx)), np.nan)
-    numpy_checked = np.zeros(n, dtype=bool)
+    checked = np.zeros(n, dtype=bool)
     iters = np.zeros(n, dtype=np.int64)
-    solved_z, solved_w = [], []
-    t0 = time.perf_counter()
-
-    def params(i):
-        p = ctx.p0.copy()
-        p[ctx.index] = P[i]
-        return p
-
+    done, warms = [], []
     for i in range(n):
-        p = params(i)
-        warm = ctx.base_warm
-        if solved_z:
-            d = np.sum((np.asarray(solved_z) - Z[i]) ** 2, axis=1)
-            warm = solved_w[int(np.argmin(d))]
+        warm = warms[int(np.argmin(np.sum((Z[done] - Z[i]) ** 2, axis=1)))] if done else ctx.base_warm
         try:
-            c, x, w, it, checked = _solve_point(ctx, p, warm)
+            code[i], x, w, iters[i], checked[i] = _solve_point(ctx, ctx.params(P[i]), warm)
         except Exception:  # noqa: BLE001 - one bad point never stops a study
-            c, x, w, it, checked = 2, None, None, 0, True
-        code[i], iters[i], numpy_checked[i] = c, it, checked
-        if c == 0:
+            code[i], checked[i] = 2, True
+        if code[i] == 0:
             X[i] = x
-            solved_z.append(Z[i])
-            solved_w.append(w)
-    # the plain-numpy check of every answer the fast path accepted; a point that
-    # fails it is solved again from scratch (Problem.solve_raw verifies in numpy)
-    todo = np.flatnonzero((code == 0) & ~numpy_checked)
-    if todo.size:
-        good = _verify_chunk(ctx, X[todo], P[todo])
-        for i in todo[~good]:
-            try:
-                x, _lg, _lx, st, ok = prob.solve_raw(params(i))
-                iters[i] += st.get("iter_count", 0) or 0
-                code[i] = 0 if ok else (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2)
-                X[i] = x if ok else np.nan
-            except Exception:  # noqa: BLE001
-                code[i], X[i] = 2, np.nan
+            done.append(i)
+            warms.append(w)
+    # the numpy check of what the warm step accepted; a point that fails it is solved
+    # again from scratch (Problem.solve_raw checks in numpy itself)
+    todo = np.flatnonzero((code == 0) & ~checked)
+    for i in todo[~_verify_chunk(ctx, X[todo], P[todo])] if todo.size else ():
+        x, _lg, _lx, st, ok = prob.solve_raw(ctx.params(P[i]))
+        iters[i] += st.get("iter_count", 0) or 0
+        code[i] = 0 if ok else (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2)
+        X[i] = x if ok else np.nan
     out = np.full((n, 4), np.nan)
     drivers = [""] * n
     for i in np.flatnonzero(code == 0):
-        x = X[i]
-        W_S, Y, m = x[0] * prob.WS_scale, x[1] * prob.Y_scale, x[2] * prob.m_ref
+        W_S, Y, m = X[i, 0] * prob.WS_scale, X[i, 1] * prob.Y_scale, X[i, 2] * prob.m_ref
         out[i] = (W_S, Y, m, m * G0 / W_S)
-        try:
-            drivers[i] = ";".join(_drivers(prob, x, params(i)))
-        except Exception:  # noqa: BLE001
-            drivers[i] = ""
+        drivers[i] = ";".join(_drivers(ctx, X[i], ctx.params(P[i])))
     return {"chunk": cid, "idx": np.asarray(idx), "code": code, "out": out, "drivers": drivers,
-            "iterations": iters, "fallbacks": int(numpy_checked.sum()), "seconds": time.perf_counter() - t0,
-            "pid": os.getpid()}
+            "iterations": iters, "fallbacks": int(checked.sum()), "seconds": time.perf_counter() - t0}
 
 
 def _pool_init(job):
@@ -795,115 +620,61 @@ def chunk_size(n: int) -> int:
     return int(max(16, min(200, math.ceil(n / 32))))
 
 
-def _order(study, n):
-    """Point order along which neighbours are close (serpentine grid / Morton curve)."""
+def _chunks(study, n):
+    """Chunks of points along an order in which neighbours are close: a serpentine
+    over a sweep's grid, a Morton (Z-order) curve through the samples."""
     si = study.si_values[:n]
     span = np.ptp(si, axis=0)
     Z = (si - si.min(axis=0)) / np.where(span > 0, span, 1.0)
     if study.mode == "sweep":
-        shape = study.shape
-        ij = np.array(np.unravel_index(np.arange(n), shape)).T
-        if len(shape) == 1:
-            key = np.argsort(si[:, 0], kind="stable")
-            return key, Z
-        # serpentine: along the second axis, reversing every other row of the first
-        a_rank = np.argsort(np.argsort(study.si_values[::shape[1], 0], kind="stable"), kind="stable")
-        b_rank = np.argsort(np.argsort(study.si_values[:shape[1], 1], kind="stable"), kind="stable")
-        ra, rb = a_rank[ij[:, 0]], b_rank[ij[:, 1]]
-        rb = np.where(ra % 2 == 0, rb, shape[1] - 1 - rb)
-        return np.lexsort((rb, ra)), Z
-    q = np.minimum((Z * 1023).astype(np.int64), 1023)
-    code = np.zeros(n, dtype=np.int64)
-    k = q.shape[1]
-    for bit in range(10):
-        for d in range(min(k, 6)):
-            code |= ((q[:, d] >> bit) & 1) << (bit * min(k, 6) + d)
-    return np.argsort(code, kind="stable"), Z
-
-
-def _chunks(study, n):
-    order, Z = _order(study, n)
+        r = [np.unique(si[:, d], return_inverse=True)[1] for d in range(si.shape[1])]    # value ranks
+        order = (np.argsort(r[0], kind="stable") if len(r) == 1 else
+                 np.lexsort((np.where(r[0] % 2 == 0, r[1], r[1].max() - r[1]), r[0])))
+    else:
+        q = np.minimum((Z * 1023).astype(np.int64), 1023)
+        k = min(q.shape[1], 6)
+        code = sum(((q[:, d] >> b) & 1) << (b * k + d) for b in range(10) for d in range(k))
+        order = np.argsort(code, kind="stable")
     size = chunk_size(n)
-    out = []
-    for c, start in enumerate(range(0, n, size)):
-        idx = order[start:start + size]
-        out.append((c, idx, Z[idx], study.si_values[idx]))
-    return out
+    return [(c, order[s:s + size], Z[order[s:s + size]], study.si_values[order[s:s + size]])
+            for c, s in enumerate(range(0, n, size))]
 
 
 def _job(study, confirm=True):
     """What a worker needs (picklable: raw data, never a built Problem)."""
-    data = study.base.data
     index = [v.index for v in study.varied]
-    key = hashlib.sha256(repr((data, study.base.path, index, confirm)).encode()).hexdigest()
-    return {"key": key, "data": data, "filename": study.base.path, "index": index, "confirm": bool(confirm)}
+    key = hashlib.sha256(repr((study.base.data, study.base.path, index, confirm)).encode()).hexdigest()
+    return {"key": key, "data": study.base.data, "filename": study.base.path, "index": index,
+            "confirm": bool(confirm)}
 
 
-class Progress:
-    """A one-line progress bar on stderr; silent when stderr is not a terminal."""
-
-    def __init__(self, total, label="study", stream=None, enabled=None):
-        self.stream = stream or sys.stderr
-        self.enabled = (getattr(self.stream, "isatty", lambda: False)() if enabled is None else enabled)
-        self.total, self.label, self.done = total, label, 0
-        self.t0 = self._last = time.perf_counter()
-
-    def update(self, n):
-        self.done += n
-        now = time.perf_counter()
-        if self.enabled and (now - self._last > 0.1 or self.done >= self.total):
-            self._last = now
-            frac = self.done / self.total if self.total else 1.0
-            width = 30
-            bar = "#" * int(frac * width) + "." * (width - int(frac * width))
-            el = now - self.t0
-            eta = el / frac - el if frac > 0 else float("nan")
-            self.stream.write(f"\r{self.label} [{bar}] {self.done}/{self.total} points  {el:5.1f} s"
-                              f"  eta {eta:5.1f} s ")
-            self.stream.flush()
-
-    def close(self):
-        if self.enabled:
-            self.stream.write("\n")
-            self.stream.flush()
-
-
-def _run_serial(job, chunks, progress):
-    for ch in chunks:
-        r = _run_chunk(job, ch)
-        progress.update(len(ch[1]))
-        yield r
+def _run_serial(job, chunks):
+    return (_run_chunk(job, ch) for ch in chunks)
 
 
 def _mp_context():
     import multiprocessing as mp
     import threading
 
-    # fork is fastest (the worker inherits the imported modules); with other threads
-    # running (a Dask client, say) forking is unsafe, so spawn a clean interpreter
+    # fork is fastest (the workers inherit the imported modules); with other threads
+    # running (a Dask client, say) forking is unsafe, so spawn clean interpreters
     if "fork" in mp.get_all_start_methods() and threading.active_count() == 1:
         return mp.get_context("fork")
     return mp.get_context("spawn")
 
 
-def _run_pool(job, chunks, workers, progress):
+def _run_pool(job, chunks, workers):
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
-    with ProcessPoolExecutor(max_workers=workers, mp_context=_mp_context(), initializer=_pool_init,
-                             initargs=(job,)) as ex:
-        futs = [ex.submit(_pool_chunk, ch) for ch in chunks]
-        for f in as_completed(futs):
-            r = f.result()
-            progress.update(len(r["idx"]))
-            yield r
+    with ProcessPoolExecutor(workers, mp_context=_mp_context(), initializer=_pool_init, initargs=(job,)) as ex:
+        yield from (f.result() for f in as_completed([ex.submit(_pool_chunk, ch) for ch in chunks]))
 
 
-def _run_dask(job, chunks, address, progress):
+def _run_dask(job, chunks, address):
     try:
         from dask.distributed import Client, as_completed
     except ImportError as e:
-        raise SizingError("--dask needs dask.distributed: install the [dask] extra "
-                          "(pip install 'sizing[dask]')") from e
+        raise SizingError("--dask needs dask.distributed: install the [dask] extra (pip install 'sizing[dask]')") from e
     own = not hasattr(address, "submit")
     try:
         client = Client(address, timeout=10) if own else address
@@ -911,11 +682,8 @@ def _run_dask(job, chunks, address, progress):
         raise SizingError(f"cannot reach the Dask scheduler at {address}: {e}") from e
     try:
         job_f = client.scatter(job, broadcast=True)
-        futs = [client.submit(_run_chunk, job_f, ch, pure=False) for ch in chunks]
-        for f in as_completed(futs):
-            r = f.result()
-            progress.update(len(r["idx"]))
-            yield r
+        yield from (f.result() for f in as_completed([client.submit(_run_chunk, job_f, ch, pure=False)
+                                                      for ch in chunks]))
     finally:
         if own:
             client.close()
@@ -927,25 +695,18 @@ def _run_dask(job, chunks, address, progress):
 
 @dataclass
 class StudyResult:
-    """A finished study: the table (pandas) and what the plots need."""
+    """A finished study: the table (pandas, one row per point in the study's order)
+    and what the outputs need; ``base`` is the full solve at the base point."""
 
     study: Study
-    table: object                 # pandas DataFrame, one row per point, in the study's order
-    base: object = None           # sizing.model.Result of a full solve at the base point
+    table: object
+    base: object = None
     executor: str = "serial"
     workers: int = 1
     elapsed_s: float = 0.0
     iterations: int = 0
     points: int = 0
-    fallbacks: int = 0            # points the warm step did not settle (every start of a single solve tried)
-
-    @property
-    def propeller(self) -> bool:
-        return self.study.base.is_propeller
-
-    @property
-    def y_column(self) -> str:
-        return "power_to_weight_W_per_N" if self.propeller else "thrust_to_weight"
+    fallbacks: int = 0            # points the warm step did not settle
 
     @property
     def feasible_fraction(self) -> float:
@@ -958,6 +719,8 @@ class StudyResult:
 
     def write(self, output_dir) -> list:
         """Write results.csv, study.json and the plots into output_dir; the paths."""
+        from .study_plots import write_outputs
+
         return write_outputs(self, output_dir)
 
 
@@ -978,34 +741,28 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     """
     import pandas as pd
 
+    from .study_plots import Progress
+
     study = source if isinstance(source, Study) else load_study(source, base_dir)
-    n = study.size if limit is None else max(0, min(int(limit), study.size))
-    if limit is not None and int(limit) < 1:
-        raise InputError(f"--limit must be at least 1, got {limit}", study.file)
-    if workers is not None and int(workers) < 1:
-        raise InputError(f"--workers must be at least 1, got {workers}", study.file)
-    job = _job(study, confirm_infeasible)
-    chunks = _chunks(study, n)
+    for name, v in (("limit", limit), ("workers", workers)):
+        if v is not None and not int(v) >= 1:
+            raise InputError(f"--{name} must be at least 1, got {v}", study.file)
+    n = study.size if limit is None else min(int(limit), study.size)
+    job, chunks = _job(study, confirm_infeasible), _chunks(study, n)
+    nw = 0 if dask is not None else min(int(workers or os.cpu_count() or 1), len(chunks)) or 1
+    executor = "dask" if dask is not None else ("serial" if nw == 1 else "processes")
     bar = Progress(n, label="study", enabled=progress)
     t0 = time.perf_counter()
-    if dask is not None:
-        executor, nw = "dask", 0
-        results = _run_dask(job, chunks, dask, bar)
-    else:
-        nw = min(int(workers or os.cpu_count() or 1), len(chunks)) or 1
-        executor = "serial" if nw == 1 else "processes"
-        results = _run_serial(job, chunks, bar) if nw == 1 else _run_pool(job, chunks, nw, bar)
-    code = np.full(n, 2, dtype=np.int8)
-    out = np.full((n, 4), np.nan)
+    results = (_run_dask(job, chunks, dask) if dask is not None else
+               _run_serial(job, chunks) if nw == 1 else _run_pool(job, chunks, nw))
+    code, out = np.full(n, 2, dtype=np.int8), np.full((n, 4), np.nan)
     drivers = np.array([""] * n, dtype=object)
     iters = fallbacks = 0
     try:
         for r in results:
-            code[r["idx"]] = r["code"]
-            out[r["idx"]] = r["out"]
-            drivers[r["idx"]] = r["drivers"]
-            iters += int(r["iterations"].sum())
-            fallbacks += r["fallbacks"]
+            code[r["idx"]], out[r["idx"]], drivers[r["idx"]] = r["code"], r["out"], r["drivers"]
+            iters, fallbacks = iters + int(r["iterations"].sum()), fallbacks + r["fallbacks"]
+            bar.update(len(r["idx"]))
     finally:
         bar.close()
     elapsed = time.perf_counter() - t0
@@ -1022,69 +779,10 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     return StudyResult(study, table, base, executor, nw, elapsed, iters, n, fallbacks)
 
 
-def write_outputs(result: StudyResult, output_dir) -> list:
-    """results.csv, study.json and the plots; returns the written paths."""
-    import json
-
-    from . import study_plots
-    from .fileio import atomic_write
-    from .report import CAUTION
-
-    out = Path(output_dir)
-    written = [atomic_write(out / "results.csv", result.table.to_csv(index=False, float_format="%.10g"))]
-    st = result.study
-    meta = {
-        "title": st.title, "study_file": st.file, "base_file": st.base_file, "base_sha256": st.base.sha256,
-        "mode": st.mode, "points": result.points, "of_points": st.size,
-        "parameters": [{"path": v.path, "unit": v.unit or None, "parameter_path": list(v.tree_path)}
-                       for v in st.varied],
-        "seed": st.seed, "distributions": st.distributions or None,
-        "feasible_fraction": _finite(result.feasible_fraction),
-        "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
-        "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
-        "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
-        "caution": CAUTION,
-    }
-    written.append(atomic_write(out / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
-    written += study_plots.write_plots(result, out)
-    return written
-
-
-def _finite(x):
-    return x if isinstance(x, float) and math.isfinite(x) else None
-
-
-def summary(result: StudyResult) -> str:
-    """Terminal lines for a finished study."""
-    st, t = result.study, result.table
-    ok = t["status"] == STATUS_OK
-    n = len(t)
-    what = (f"sweep of {len(st.varied)} parameter{'s' if len(st.varied) > 1 else ''}" if st.mode == "sweep"
-            else f"Monte Carlo, {st.size:,} samples, seed {st.seed}")
-    lines = [st.title, "=" * len(st.title), f"base: {st.base_file}", f"{what}: {n:,} points"
-             + (f" (first {n:,} of {st.size:,})" if n < st.size else "")]
-    lines.append("varied: " + ", ".join(f"{v.path}" + (f" [{v.unit}]" if v.unit else "") for v in st.varied))
-    n_ok, n_inf = int(ok.sum()), int((t["status"] == STATUS_INFEASIBLE).sum())
-    lines.append(f"feasible at {n_ok:,} of {n:,} points ({100 * n_ok / n if n else 0:.1f} %); "
-                 f"infeasible {n_inf:,}; failed {n - n_ok - n_inf:,}")
-    if n_ok:
-        m = t.loc[ok, "takeoff_mass_kg"]
-        lines.append(f"takeoff mass {m.min():,.0f} to {m.max():,.0f} kg")
-        if st.mode == "sample":
-            pc = result.percentiles()
-            lines.append("takeoff mass percentiles: " + ", ".join(f"P{k} {v:,.0f} kg" for k, v in pc.items()))
-        counts = t.loc[ok, "drivers"].replace("", "(none)").value_counts()
-        lines.append("drivers: " + "; ".join(f"{k.replace(';', ' + ')} at {v:,}" for k, v in counts.head(6).items()))
-    how = {"serial": "in this process", "processes": f"{result.workers} local processes",
-           "dask": "on a Dask cluster"}[result.executor]
-    lines.append(f"solved {how} in {result.elapsed_s:.2f} s "
-                 f"({1000 * result.elapsed_s / max(n, 1):.2f} ms per point)")
-    return "\n".join(lines)
-
-
 def run_study_cli(file, output_dir, workers=None, dask=None, limit=None) -> int:
     """What ``sizing study`` runs: solve, write, print; the exit code (0, 2 bad input)."""
     from .report import CAUTION
+    from .study_plots import summary, write_outputs
 
     try:
         result = run_study(file, workers=workers, dask=dask, limit=limit)

@@ -1,21 +1,113 @@
-"""Figures of a trade study (matplotlib, Agg, never pyplot; nothing computed here).
+"""What a trade study shows: progress bar, terminal summary, files and figures.
 
-Each plot function takes the study's data and ``ax=None``, rejects unknown
-keywords by signature, and returns the artists it drew. :func:`write_plots`
-draws the set that fits the study (mass against the parameter, carpet and
-driver map, mass distribution, requirement costs) and writes PNG files
-atomically with the caution footer.
+Nothing is computed here. :func:`write_outputs` writes ``results.csv``,
+``study.json`` and the figures. Each plot function (matplotlib, Agg, never
+pyplot) takes the study's data and ``ax=None``, rejects unknown keywords by
+signature, and returns the artists it drew. :func:`write_plots` draws the
+set that fits the study (mass against the parameter, carpet and driver map,
+mass distribution, requirement costs) and writes PNG files atomically with
+the caution footer.
 """
 from __future__ import annotations
 
 import io
 import math
+import sys
 import textwrap
+import time
 from pathlib import Path
 
 import numpy as np
 
 NONE_LABEL = "(no requirement active)"
+
+
+class Progress:
+    """A one-line progress bar on stderr; silent when stderr is not a terminal."""
+
+    def __init__(self, total, label="study", stream=None, enabled=None):
+        self.stream = stream or sys.stderr
+        self.enabled = (getattr(self.stream, "isatty", lambda: False)() if enabled is None else enabled)
+        self.total, self.label, self.done = total, label, 0
+        self.t0 = self._last = time.perf_counter()
+
+    def update(self, n):
+        self.done += n
+        now = time.perf_counter()
+        if self.enabled and (now - self._last > 0.1 or self.done >= self.total):
+            self._last = now
+            frac = self.done / self.total if self.total else 1.0
+            width = 30
+            bar = "#" * int(frac * width) + "." * (width - int(frac * width))
+            el = now - self.t0
+            eta = el / frac - el if frac > 0 else float("nan")
+            self.stream.write(f"\r{self.label} [{bar}] {self.done}/{self.total} points  {el:5.1f} s"
+                              f"  eta {eta:5.1f} s ")
+            self.stream.flush()
+
+    def close(self):
+        if self.enabled:
+            self.stream.write("\n")
+            self.stream.flush()
+
+
+def write_outputs(result, output_dir) -> list:
+    """results.csv, study.json and the plots; returns the written paths."""
+    import json
+
+    from .fileio import atomic_write
+    from .report import CAUTION
+
+    out = Path(output_dir)
+    written = [atomic_write(out / "results.csv", result.table.to_csv(index=False, float_format="%.10g"))]
+    st = result.study
+    meta = {
+        "title": st.title, "study_file": st.file, "base_file": st.base_file, "base_sha256": st.base.sha256,
+        "mode": st.mode, "points": result.points, "of_points": st.size,
+        "parameters": [{"path": v.path, "unit": v.unit or None, "parameter_path": list(v.tree_path)}
+                       for v in st.varied],
+        "seed": st.seed, "distributions": st.distributions or None,
+        "feasible_fraction": _finite(result.feasible_fraction),
+        "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
+        "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
+        "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
+        "caution": CAUTION,
+    }
+    written.append(atomic_write(out / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
+    written += write_plots(result, out)
+    return written
+
+
+def _finite(x):
+    return x if isinstance(x, float) and math.isfinite(x) else None
+
+
+def summary(result) -> str:
+    """Terminal lines for a finished study."""
+    st, t = result.study, result.table
+    ok = t["status"] == "optimal"
+    n = len(t)
+    what = (f"sweep of {len(st.varied)} parameter{'s' if len(st.varied) > 1 else ''}" if st.mode == "sweep"
+            else f"Monte Carlo, {st.size:,} samples, seed {st.seed}")
+    lines = [st.title, "=" * len(st.title), f"base: {st.base_file}", f"{what}: {n:,} points"
+             + (f" (first {n:,} of {st.size:,})" if n < st.size else "")]
+    lines.append("varied: " + ", ".join(f"{v.path}" + (f" [{v.unit}]" if v.unit else "") for v in st.varied))
+    n_ok, n_inf = int(ok.sum()), int((t["status"] == "infeasible").sum())
+    lines.append(f"feasible at {n_ok:,} of {n:,} points ({100 * n_ok / n if n else 0:.1f} %); "
+                 f"infeasible {n_inf:,}; failed {n - n_ok - n_inf:,}")
+    if n_ok:
+        m = t.loc[ok, "takeoff_mass_kg"]
+        lines.append(f"takeoff mass {m.min():,.0f} to {m.max():,.0f} kg")
+        if st.mode == "sample":
+            pc = result.percentiles()
+            lines.append("takeoff mass percentiles: " + ", ".join(f"P{k} {v:,.0f} kg" for k, v in pc.items()))
+        counts = t.loc[ok, "drivers"].replace("", "(none)").value_counts()
+        lines.append("drivers: " + "; ".join(f"{k.replace(';', ' + ')} at {v:,}" for k, v in counts.head(6).items()))
+    how = {"serial": "in this process", "processes": f"{result.workers} local processes",
+           "dask": "on a Dask cluster"}[result.executor]
+    lines.append(f"solved {how} in {result.elapsed_s:.2f} s "
+                 f"({1000 * result.elapsed_s / max(n, 1):.2f} ms per point)")
+    return "\n".join(lines)
 
 
 def _figure(figsize=(8.0, 5.6)):
