@@ -598,19 +598,6 @@ def _run_chunk(job, chunk):
             "iterations": iters, "fallbacks": int(checked.sum()), "seconds": time.perf_counter() - t0}
 
 
-def _pool_init(job):
-    global _POOL_JOB
-    _POOL_JOB = job
-    _context(job)
-
-
-def _pool_chunk(chunk):
-    return _run_chunk(_POOL_JOB, chunk)
-
-
-_POOL_JOB = None
-
-
 # --------------------------------------------------------------------------
 # Ordering, chunks, executors
 # --------------------------------------------------------------------------
@@ -666,8 +653,9 @@ def _mp_context():
 def _run_pool(job, chunks, workers):
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
-    with ProcessPoolExecutor(workers, mp_context=_mp_context(), initializer=_pool_init, initargs=(job,)) as ex:
-        yield from (f.result() for f in as_completed([ex.submit(_pool_chunk, ch) for ch in chunks]))
+    # each worker builds its problem once, at start (the job is small: raw data, no Problem)
+    with ProcessPoolExecutor(workers, mp_context=_mp_context(), initializer=_context, initargs=(job,)) as ex:
+        yield from (f.result() for f in as_completed([ex.submit(_run_chunk, job, ch) for ch in chunks]))
 
 
 def _run_dask(job, chunks, address):
@@ -775,7 +763,10 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     if costs:
         from .solve import solve
 
-        base = solve(study.base)
+        try:
+            base = solve(study.base)
+        except SizingError:          # no costs plot then; the study itself stands
+            base = None
     return StudyResult(study, table, base, executor, nw, elapsed, iters, n, fallbacks)
 
 

@@ -103,7 +103,7 @@ def summary(result) -> str:
             lines.append("takeoff mass percentiles: " + ", ".join(f"P{k} {v:,.0f} kg" for k, v in pc.items()))
         counts = t.loc[ok, "drivers"].replace("", "(none)").value_counts()
         lines.append("drivers: " + "; ".join(f"{k.replace(';', ' + ')} at {v:,}" for k, v in counts.head(6).items()))
-    how = {"serial": "in this process", "processes": f"{result.workers} local processes",
+    how = {"serial": "in this process", "processes": f"on {result.workers} local processes",
            "dask": "on a Dask cluster"}[result.executor]
     lines.append(f"solved {how} in {result.elapsed_s:.2f} s "
                  f"({1000 * result.elapsed_s / max(n, 1):.2f} ms per point)")

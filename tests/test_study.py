@@ -190,3 +190,33 @@ def test_invalid_study_exits_2_through_the_console_script(tmp_path):
     assert r.returncode == 2
     assert f"{f}:3:" in r.stderr and "Traceback" not in r.stderr
     assert not (tmp_path / "out").exists()        # rejected before any solve or output
+
+
+def test_quick_infeasibility_verdict_agrees_here():
+    # the heuristic verdict (confirm_infeasible=False) against the default, on points
+    # on both sides of the feasibility boundary  # common practice, no source
+    full = run_study(SWEEP, workers=1, costs=False)
+    quick = run_study(SWEEP, workers=1, costs=False, confirm_infeasible=False)
+    assert list(quick.table["status"]) == list(full.table["status"])
+    np.testing.assert_allclose(quick.table["takeoff_mass_kg"], full.table["takeoff_mass_kg"], rtol=1e-7)
+
+
+def test_batched_numpy_check_matches_the_solver_check_point_by_point():
+    # the chunk's batched re-evaluation must accept and reject exactly what
+    # Problem.verify does point by point  # common practice, no source
+    from sizing import study as S
+
+    st = load_study(_sample(3, count=12))
+    ctx = S._context(S._job(st))
+    X, P = [], st.si_values
+    for values in P:
+        x, *_rest, ok = ctx.prob.solve_raw(ctx.params(values))
+        assert ok
+        X.append(x)
+    X = np.array(X)
+    X_bad = X.copy()
+    X_bad[::3, 1] *= 0.97          # 3 % less thrust than the optimum: some requirement fails
+    for XX in (X, X_bad):
+        expected = [ctx.prob.verify(XX[i], ctx.params(P[i])) for i in range(len(P))]
+        assert list(S._verify_chunk(ctx, XX, P)) == expected
+    assert not all(S._verify_chunk(ctx, X_bad, P))
