@@ -269,13 +269,36 @@ def bench_cold_cli(runs=5):
 # (b) sweep, (c) Monte Carlo
 # --------------------------------------------------------------------------
 
+def _burn(n):
+    s = 0
+    for i in range(n):
+        s += i * i
+    return s
+
+
+def parallel_capacity(n=4_000_000):
+    """Speed-up of a pure-Python CPU burn on WORKERS processes right now: how many
+    free cores the machine had (2.0 on two idle cores)."""
+    from concurrent.futures import ProcessPoolExecutor
+
+    t = _now()
+    for _ in range(2 * WORKERS):
+        _burn(n)
+    serial = _now() - t
+    with ProcessPoolExecutor(WORKERS) as ex:
+        list(ex.map(_burn, [n]))
+        t = _now()
+        list(ex.map(_burn, [n] * (2 * WORKERS)))
+        return serial / (_now() - t)
+
+
 def bench_sweep():
     from sizing.study import run_study
 
     study = {"base": str(TRAINER), "title": "1,000-point sweep",
              "sweep": {"requirements.turn-4g.load_factor": {"from": 3.0, "to": 5.0, "steps": 40},
                        "requirements.field.ground_roll": {"from": "550 m", "to": "950 m", "steps": 25}}}
-    out = {}
+    out = {"capacity_before": parallel_capacity()}
     for label, workers in (("serial", 1), (f"{WORKERS} processes", WORKERS)):
         runs = []
         for _ in range(REPEAT):
@@ -289,17 +312,18 @@ def bench_sweep():
         best = min(runs, key=lambda v: v["wall"])
         best["wall_median"] = statistics.median(v["wall"] for v in runs)
         out[label] = best
-    a, b = (v["table"] for v in out.values())
-    out["identical"] = bool(a.equals(b))
+    out["capacity_after"] = parallel_capacity()
     ser, par = out["serial"], out[f"{WORKERS} processes"]
+    out["identical"] = bool(ser["table"].equals(par["table"]))
     NOTES.append(f"- (b) Fastest of {REPEAT} runs each (medians: serial {_ms(ser['wall_median'])}, parallel "
                  f"{_ms(par['wall_median'])}). Parallel speed-up {ser['solve'] / par['solve']:.2f}x on {WORKERS} "
                  f"processes (solving "
                  f"time {_ms(ser['solve'])} serial, {_ms(par['solve'])} parallel, CPU time of the parallel run "
                  f"including its workers {_ms(par['cpu'])}, that is {100 * par['cpu'] / (WORKERS * par['wall']):.0f} % "
-                 f"of {WORKERS} cores over its wall time). Where that share is well below 100 %, the machine's "
-                 f"cores were busy with other work during the run (see the load average): the workers did not "
-                 f"have two free cores. The 1,000 warm-started solves take {_ms(ser['solve'] / ser['points'])} "
+                 f"of {WORKERS} cores over its wall time). A pure-Python CPU burn on {WORKERS} processes, timed just "
+                 f"before and after, ran {out['capacity_before']:.2f}x and {out['capacity_after']:.2f}x as fast as "
+                 f"serially ({WORKERS:.1f}x means {WORKERS} free cores): where that is near 1, other work held a "
+                 f"core and the study's workers could not run side by side either. The 1,000 warm-started solves take {_ms(ser['solve'] / ser['points'])} "
                  f"each serially.")
     return out
 
@@ -412,7 +436,8 @@ def main():
     print(f"    {'solving':16}" + "".join(f"{_ms(v['solve']):>16}" for _, v in rows))
     print(f"    {'per point':16}" + "".join(f"{_ms(v['solve'] / v['points']):>16}" for _, v in rows))
     print(f"    {'feasible':16}" + "".join(f"{v['feasible']:>16,}" for _, v in rows))
-    print(f"    identical tables: {sw['identical']}")
+    print(f"    identical tables: {sw['identical']}; free-core probe (CPU burn speed-up on {WORKERS} processes) "
+          f"{sw['capacity_before']:.2f}x before, {sw['capacity_after']:.2f}x after")
 
     print(f"\n(c) 10,000-sample Monte Carlo ({MC_STUDY.name}), {WORKERS} processes")
     mc = bench_mc()
