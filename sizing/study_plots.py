@@ -221,17 +221,17 @@ def carpet(a, b, mass, a_label="", b_label="", drivers=None, ax=None, offset=0.5
     X = ia + offset * ib
     handles = []
     for i in range(na):
-        handles.append(ax.plot(X[i], mass[i], color="tab:blue", lw=1.2)[0])
+        handles.append(ax.plot(X[i], mass[i], color="0.25", lw=1.2)[0])
         j = np.flatnonzero(np.isfinite(mass[i]))
         if j.size:
             handles.append(ax.annotate(f"{a[i]:g}", (X[i, j[-1]], mass[i, j[-1]]), xytext=(3, 0),
-                                       textcoords="offset points", fontsize=7, color="tab:blue", va="center"))
+                                       textcoords="offset points", fontsize=7, color="0.25", va="center"))
     for k in range(nb):
-        handles.append(ax.plot(X[:, k], mass[:, k], color="tab:orange", lw=1.2)[0])
+        handles.append(ax.plot(X[:, k], mass[:, k], color="0.55", lw=1.2, ls="--")[0])
         i = np.flatnonzero(np.isfinite(mass[:, k]))
         if i.size:
             handles.append(ax.annotate(f"{b[k]:g}", (X[i[0], k], mass[i[0], k]), xytext=(-3, -2),
-                                       textcoords="offset points", fontsize=7, color="tab:orange",
+                                       textcoords="offset points", fontsize=7, color="0.45",
                                        ha="right", va="top"))
     if drivers is not None:
         d = np.asarray(drivers, dtype=object)
@@ -243,8 +243,8 @@ def carpet(a, b, mass, a_label="", b_label="", drivers=None, ax=None, offset=0.5
             handles.append(ax.scatter(X[sel], mass[sel], s=18, color=col[n], zorder=3, label=_driver_name(n)))
         if names:
             ax.legend(fontsize=7, title="driving requirements", title_fontsize=7, loc="best")
-    ax.plot([], [], color="tab:blue", label=f"constant {a_label} (labelled at the right)")
-    ax.plot([], [], color="tab:orange", label=f"constant {b_label} (labelled at the left)")
+    ax.plot([], [], color="0.25", label=f"constant {a_label} (labelled at the right)")
+    ax.plot([], [], color="0.55", ls="--", label=f"constant {b_label} (labelled at the left)")
     handles.append(ax.legend(fontsize=7, loc="upper left", handles=ax.get_legend_handles_labels()[0]))
     ax.set_xticks([])
     ax.set_xlabel(f"carpet of {a_label}\nand {b_label} (the horizontal position has no scale)", fontsize=8)
