@@ -35,7 +35,9 @@ TIE_WING = 1e-9
 
 _IPOPT = {"ipopt.print_level": 0, "print_time": False, "ipopt.sb": "yes",
           "ipopt.tol": 1e-10, "ipopt.acceptable_tol": 1e-8, "ipopt.max_iter": 500,
-          "ipopt.mu_strategy": "adaptive"}
+          "ipopt.mu_strategy": "adaptive",
+          "ipopt.bound_relax_factor": 0.0}   # active requirements end exactly on their boundary
+_INFEASIBLE = ("Infeasible_Problem_Detected", "Restoration_Failed", "Converged_To_Local_Infeasibility")
 _IPOPT_WARM = {"ipopt.warm_start_init_point": "yes", "ipopt.warm_start_bound_push": 1e-9,
                "ipopt.warm_start_mult_bound_push": 1e-9, "ipopt.mu_init": 1e-6}
 
@@ -86,6 +88,7 @@ class Problem:
             self.Y_bounds = (0.0, 100.0) if self.propeller else (0.0, 2.0)
         self.explicit_bounds = {"wing_loading": bool(ws), "y": bool(yb)}
 
+        self.scan_found_design = True
         self._build()
         self.build_time = time.perf_counter() - t0
 
@@ -182,7 +185,7 @@ class Problem:
         self.lbg = np.array([0.0 if w == "closure" else 0.0 for _, w in rows])
         self.ubg = np.array([0.0 if w == "closure" else np.inf for _, w in rows])
         self.lbx = np.array([self.WS_bounds[0] / self.WS_scale, self.Y_bounds[0] / self.Y_scale,
-                             self._fixed_mass(self.tree0) / self.m_ref * 0.999] + [0.01] * len(self.free))
+                             1e-3 * self._fixed_mass(self.tree0) / self.m_ref] + [0.01] * len(self.free))
         self.ubx = np.array([self.WS_bounds[1] / self.WS_scale, self.Y_bounds[1] / self.Y_scale,
                              1000.0 * self._fixed_mass(self.tree0) / self.m_ref] + [20.0] * len(self.free))
 
@@ -241,6 +244,7 @@ class Problem:
                 mass = np.where(1 - f_fuel - f_e > 0.01, fixed / (1 - f_fuel - f_e), np.inf)
                 mass = np.clip(mass, fixed, 1000 * fixed)
         score = np.where(ok & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
+        self.scan_found_design = bool(np.any(np.isfinite(score)))
         if not np.any(np.isfinite(score)):
             i = int(np.argmin(np.where(np.isfinite(Y_need), Y_need, np.inf)))
         else:
@@ -257,22 +261,24 @@ class Problem:
     def solve_raw(self, p=None, x0=None, lam_g0=None, lam_x0=None):
         """One IPOPT solve; returns (x, lam_g, lam_x, stats, verified: bool)."""
         p = self.p0 if p is None else np.asarray(p, dtype=float)
-        attempts = []
-        if x0 is not None and lam_g0 is not None:
-            attempts.append(("warm", np.asarray(x0), lam_g0, lam_x0))
-        if x0 is not None:
-            attempts.append(("cold", np.asarray(x0), None, None))
-        guess = self.initial_guess(p)
-        attempts.append(("cold", guess, None, None))
-        # other starting points: heavier, lower wing loading, higher thrust
-        for fws, fy, fm in ((0.5, 1.5, 1.5), (1.5, 1.2, 1.2), (0.3, 2.0, 2.0)):
-            alt = guess.copy()
-            alt[0] *= fws
-            alt[1] = max(alt[1] * fy, 0.05)
-            alt[2] *= fm
-            attempts.append(("cold", np.clip(alt, self.lbx, self.ubx), None, None))
+
+        def attempts():
+            if x0 is not None and lam_g0 is not None:
+                yield "warm", np.asarray(x0), lam_g0, lam_x0
+            if x0 is not None:
+                yield "cold", np.asarray(x0), None, None
+            guess = self.initial_guess(p)          # only when the given start did not do
+            yield "scan", guess, None, None
+            # other starting points: lower wing loading and heavier, higher, much lower
+            for fws, fy, fm in ((0.5, 1.5, 1.5), (1.5, 1.2, 1.2), (0.3, 2.0, 2.0)):
+                alt = guess.copy()
+                alt[0] *= fws
+                alt[1] = max(alt[1] * fy, 0.05)
+                alt[2] *= fm
+                yield "cold", np.clip(alt, self.lbx, self.ubx), None, None
+
         last = None
-        for mode, xs, lg, lx in attempts:
+        for mode, xs, lg, lx in attempts():
             args = dict(x0=xs, p=p, lbx=self.lbx, ubx=self.ubx, lbg=self.lbg, ubg=self.ubg)
             solver = self.solver
             if mode == "warm":
@@ -286,10 +292,16 @@ class Problem:
             last = (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel(), stats, verified)
             if verified:
                 return last
-            if stats.get("return_status") == "Infeasible_Problem_Detected" and mode == "cold" and xs is guess:
-                # a clean infeasibility certificate from the scan's best guess
-                pass
+            if (mode == "scan" and stats.get("return_status") in _INFEASIBLE
+                    and not self.scan_found_design and not self._finer_scan_finds_design(p)):
+                # IPOPT's local infeasibility certificate from the scan's best point, and
+                # a finer scan over the whole W/S range finds no design either
+                return last
         return last
+
+    def _finer_scan_finds_design(self, p) -> bool:
+        self.initial_guess(p, n=200)
+        return self.scan_found_design
 
     def verify(self, x, p) -> bool:
         """Re-evaluate every constraint in plain numpy at the answer."""

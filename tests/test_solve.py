@@ -36,13 +36,17 @@ def check_against_grid(spec):
     # the grid's resolution; and it must be within 0.1 % of the grid's best
     assert m_s <= m_g * (1 + 1e-6) + 1e-6
     assert m_s >= m_g * (1 - 1e-3)
-    # same drivers: the grid's active curves at its best point
+    # same drivers: what is clearly active at the grid's best point is a driver, and every
+    # driver is at least nearly active there (a curve passing within 0.2 % of the grid's
+    # best point may or may not be active at the exact optimum)
     Y = grid["Y"]
     rel_step = grid["step"] / grid["W"]
-    grid_drivers = {k for k, v in grid["need"].items() if v >= Y * (1 - 2e-3)}
-    grid_drivers |= {k for k, v in grid["lims"].items() if grid["W"] >= v * (1 - 5 * rel_step)}
+    loose = {k for k, v in grid["need"].items() if v >= Y * (1 - 2e-3)}
+    loose |= {k for k, v in grid["lims"].items() if grid["W"] >= v * (1 - 5 * rel_step)}
+    tight = {k for k, v in grid["need"].items() if v >= Y * (1 - 1e-6)}
+    tight |= {k for k, v in grid["lims"].items() if grid["W"] >= v * (1 - rel_step)}
     solver_drivers = {d for d in res.drivers if d != "mission fuel"}
-    assert solver_drivers == grid_drivers, (solver_drivers, grid_drivers, m_s, m_g)
+    assert tight <= solver_drivers <= loose, (solver_drivers, tight, loose, m_s, m_g)
     return res, grid
 
 
