@@ -62,7 +62,7 @@ def margin_at(r: dict, tree: dict, W_S, Y, beta) -> float:
     ac = M.aircraft(tree)
     req = M.requirement(r, ac, beta)
     with np.errstate(all="ignore"):
-        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=64, refine=30)
+        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=24)
     margins = []
     if thrust is not None:
         t = float(thrust[0])
@@ -126,7 +126,9 @@ def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
         return None
     a, b = lo, hi
     ga = g(a)
-    for _ in range(34):
+    for _ in range(40):
+        if abs(b - a) <= 1e-6 * max(abs(a), abs(b), 1e-3):   # 6 digits: plenty for a margin text
+            break
         c = 0.5 * (a + b)
         gc = g(c)
         if (gc >= 0) == (ga >= 0):
