@@ -194,7 +194,7 @@ class Design:
 @dataclass(frozen=True)
 class Infeasibility:
     conflicts: tuple
-    relaxations: dict            # id -> (relaxed value in user units, unit text)
+    relaxations: dict            # id -> {value, unit, text, field, from, shown, si, together}
     explanation: str = ""
 
 

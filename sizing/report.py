@@ -63,6 +63,19 @@ def cost_line(r) -> str:
     return f"{c[0]} on {r.id}: +{c[1]:,.1f} kg"
 
 
+def relaxation_heading(inf) -> str:
+    """What the list of relaxations means: each alone, or all together."""
+    if any(rel.get("together") for rel in inf.relaxations.values()):
+        return "conflicting requirements; these changes together restore feasibility:"
+    return "conflicting requirements, and the smallest change of each that alone restores feasibility:"
+
+
+def relaxation_text(rid, rel) -> str:
+    """'stall: speed 40 kn -> 66.9 kn' for one relaxation."""
+    was = f"{rel['from']} -> " if rel.get("from") else "-> "
+    return f"{rid}: {rel.get('field', 'value')} {was}{rel.get('text', '?')}"
+
+
 def summary(result, path: str = "") -> str:
     """The readable terminal summary of a result."""
     lines = [result.title, "=" * len(result.title)]
@@ -76,11 +89,9 @@ def summary(result, path: str = "") -> str:
             if inf.explanation:
                 lines.append(f"  {inf.explanation}")
             if inf.conflicts:
-                lines.append("  conflicting requirements, and the smallest change of each that alone "
-                             "restores feasibility:")
+                lines.append("  " + relaxation_heading(inf))
                 for rid in inf.conflicts:
-                    rel = inf.relaxations[rid]
-                    lines.append(f"    {rid}: {rel['field']} -> {rel['text']}")
+                    lines.append("    " + relaxation_text(rid, inf.relaxations[rid]))
         lines += ["", CAUTION]
         return "\n".join(lines)
     d = result.design

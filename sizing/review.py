@@ -180,8 +180,9 @@ def document(spec, res, *, diagram=True, envelope=True):
             if inf.explanation:
                 blocks.append(("p", inf.explanation))
             if inf.conflicts:
-                blocks.append(("p", "Conflicting requirements, and the smallest change of each that alone "
-                                    "restores feasibility:"))
+                from .report import relaxation_heading
+                heading = relaxation_heading(inf)
+                blocks.append(("p", heading[0].upper() + heading[1:]))
                 blocks.append(("table", ["requirement", "field", "relaxed value"],
                                [[rid, inf.relaxations[rid].get("field", ""), inf.relaxations[rid].get("text", "")]
                                 for rid in inf.conflicts]))

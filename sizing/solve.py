@@ -25,7 +25,6 @@ from . import constraints as C
 from . import model as M
 from . import weights as Wt
 from .atmosphere import g0
-from .errors import SolverError
 from .propulsion import is_propeller
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
@@ -77,7 +76,8 @@ class Problem:
         self.V_scale = 100.0
 
         # bounds of the search region
-        ds = (spec.model.design_space.model_dump() if spec.model.design_space else {}) or {}
+        box = spec.model.design_space
+        ds = {k: getattr(box, k) for k in ("wing_loading", "thrust_to_weight", "power_to_weight")} if box else {}
         ws = ds.get("wing_loading")
         self.WS_bounds = (ws[0].si, ws[1].si) if ws else (100.0, 15000.0)
         yk = "power_to_weight" if self.propeller else "thrust_to_weight"
@@ -334,15 +334,10 @@ class Problem:
         st = {"return_status": stats.get("return_status"), "iterations": stats.get("iter_count"),
               "solve_time_s": elapsed, "build_time_s": self.build_time}
         if not verified:
-            if stats.get("return_status") in ("Infeasible_Problem_Detected", "Solve_Succeeded",
-                                              "Solved_To_Acceptable_Level", "Restoration_Failed",
-                                              "Maximum_Iterations_Exceeded",
-                                              "Search_Direction_Becomes_Too_Small",
-                                              "Converged_To_Local_Infeasibility"):
-                from .diagnose import diagnose
-                return diagnose(self, p, st, spec)
-            raise SolverError(f"IPOPT did not converge ({stats.get('return_status')}) from any "
-                              f"starting point; try a narrower design_space or check the inputs")
+            # infeasible set, or solver trouble: diagnose tells them apart (it raises
+            # SolverError when it cannot show infeasibility)
+            from .diagnose import diagnose
+            return diagnose(self, p, st, spec)
         res = self._package(x, lam_g, p, st, sensitivities, spec)
         res.stats["warm"] = (x, lam_g, lam_x)
         return res

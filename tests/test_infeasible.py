@@ -190,7 +190,7 @@ def test_printed_relaxation_works_as_written(conflict, tmp_path):
     f = tmp_path / "conflict.yaml"
     f.write_text(text_of(CONFLICT, extra="design_space: {thrust_to_weight: [0, 0.8]}\n"))
     rc, out, err = _main(["solve", str(f)])
-    assert rc == 3 and "stall: speed -> " + res.infeasibility.relaxations["stall"]["text"] in out
+    assert rc == 3 and "stall: speed " in out and "-> " + res.infeasibility.relaxations["stall"]["text"] in out
 
 
 def test_no_single_change_reports_the_joint_one():
@@ -243,7 +243,7 @@ def test_invalid_numbers_from_the_optimizer_are_exit_1(monkeypatch):
     # common practice, no source
     monkeypatch.setattr(Problem, "solve_raw", _failing("Invalid_Number_Detected"))
     rc, out, err = _main(["solve", str(EXAMPLES[0])])
-    assert rc == 1 and "IPOPT did not converge" in err and "Traceback" not in err
+    assert rc == 1 and "did not converge" in err and "Traceback" not in err
 
 
 def test_a_missed_optimum_is_found_again(monkeypatch):
