@@ -19,6 +19,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .plots import PALETTE
+
 NONE_LABEL = "(no requirement active)"
 
 
@@ -147,10 +149,17 @@ def _driver_name(d):
 
 
 def _colours(names):
-    from matplotlib import colormaps
+    """The constraint diagram's own palette (sizing.plots.PALETTE), lightened on repeat."""
+    from matplotlib.colors import to_rgb
 
-    cmap = colormaps["tab10"] if len(names) <= 10 else colormaps["tab20"]
-    return {n: cmap(i % cmap.N) for i, n in enumerate(names)}
+    from .plots import PALETTE
+
+    out = {}
+    for i, n in enumerate(names):
+        rgb = np.array(to_rgb(PALETTE[i % len(PALETTE)]))
+        k = i // len(PALETTE)
+        out[n] = tuple(rgb + (1 - rgb) * min(0.3 * k, 0.7))
+    return out
 
 
 def _driver_sets(drivers, ok):
@@ -196,7 +205,7 @@ def mass_curve(x, mass, drivers, status, xlabel="", ax=None):
                                    ha="center", fontsize=7, color=col[d]))
     if (~ok).any():
         lo = np.nanmin(mass[ok]) if ok.any() else 0.0
-        handles.append(ax.plot(x[~ok], np.full((~ok).sum(), lo), "x", color="crimson", ms=7,
+        handles.append(ax.plot(x[~ok], np.full((~ok).sum(), lo), "x", color="0.15", ms=7,
                                label="no feasible design", zorder=3)[0])
     ax.set_xlabel(xlabel)
     ax.set_ylabel("takeoff mass [kg]")
@@ -274,7 +283,7 @@ def driver_map(a, b, mass, drivers, a_label="", b_label="", ax=None):
                                      cmap=cmap, vmin=-0.5, vmax=len(names) - 0.5, shading="nearest", alpha=0.8))
     if (~ok).any():
         bb, aa = np.meshgrid(b, a)
-        handles.append(ax.scatter(bb[~ok], aa[~ok], marker="x", color="crimson", s=25))
+        handles.append(ax.scatter(bb[~ok], aa[~ok], marker="x", color="0.15", s=25))
     if ok.sum() >= 4 and min(mass.shape) >= 2:
         cs = ax.contour(np.asarray(b, float), np.asarray(a, float), np.ma.masked_invalid(mass), colors="k",
                         linewidths=0.8)
@@ -282,7 +291,7 @@ def driver_map(a, b, mass, drivers, a_label="", b_label="", ax=None):
         handles.append(cs)
     patches = [Patch(color=col[n], label=_driver_name(n)) for n in names]
     if (~ok).any():
-        patches.append(Patch(color="crimson", label="x: no feasible design"))
+        patches.append(Patch(color="0.15", label="x: no feasible design"))
     if patches:
         ax.legend(handles=patches, fontsize=7, title="driving requirements", title_fontsize=7, loc="best")
     ax.set_xlabel(b_label)
@@ -297,7 +306,7 @@ def mass_distribution(mass, n_total, feasible_fraction, percentiles, drivers=Non
     m = m[np.isfinite(m)]
     handles = []
     if m.size:
-        handles.append(ax.hist(m, bins=min(60, max(10, int(math.sqrt(m.size)))), color="tab:blue", alpha=0.75)[2])
+        handles.append(ax.hist(m, bins=min(60, max(10, int(math.sqrt(m.size)))), color=PALETTE[0], alpha=0.75)[2])
         for (k, v), ls in zip(percentiles.items(), (":", "-", "--", "-.")):
             if math.isfinite(v):
                 handles.append(ax.axvline(v, color="k", ls=ls, lw=1, label=f"P{k} {v:,.0f} kg"))
@@ -321,7 +330,7 @@ def driver_frequency(drivers, status, ax=None):
     names, counts = np.unique(np.asarray(drivers, dtype=object)[ok].astype(str), return_counts=True)
     order = np.argsort(counts)
     n = max(len(status), 1)
-    bars = ax.barh([_driver_name(names[i]) for i in order], 100 * counts[order] / n, color="tab:green")
+    bars = ax.barh([_driver_name(names[i]) for i in order], 100 * counts[order] / n, color=PALETTE[2])
     ax.set_xlabel("share of all samples [%]")
     ax.set_title("driving requirements", fontsize=9)
     ax.tick_params(axis="y", labelsize=7)
@@ -339,7 +348,7 @@ def costs(requirements, ax=None):
         if r.active and c is not None:
             labels.append(f"{c[0]} on {r.id}")
             values.append(c[1])
-            colours.append("tab:red")
+            colours.append(PALETTE[1])
         else:
             labels.append(f"{r.id} (margin {100 * r.margin:.1f} %)" if math.isfinite(r.margin) else r.id)
             values.append(0.0 if c is None or not r.active else c[1])
