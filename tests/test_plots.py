@@ -31,13 +31,6 @@ SIZING = Path(sys.executable).parent / "sizing"
 SVG_NS = "{http://www.w3.org/2000/svg}"
 
 
-@pytest.fixture(scope="module")
-def solved():
-    out = {}
-    for path in EXAMPLES:
-        spec = load(path)
-        out[path.name] = (spec, solve(spec))
-    return out
 
 
 @pytest.fixture(scope="module")

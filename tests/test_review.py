@@ -25,13 +25,6 @@ SIZING = Path(sys.executable).parent / "sizing"
 PNG = b"\x89PNG\r\n\x1a\n"      # Source: PNG signature, ISO/IEC 15948 §5.2
 
 
-@pytest.fixture(scope="module")
-def solved():
-    out = {}
-    for path in EXAMPLES:
-        spec = load(path)
-        out[path.name] = (spec, solve(spec))
-    return out
 
 
 class _Collect(HTMLParser):
