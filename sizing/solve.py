@@ -89,6 +89,7 @@ class Problem:
         self.explicit_bounds = {"wing_loading": bool(ws), "y": bool(yb)}
 
         self.scan_found_design = True
+        self._solver_infeasible = None
         self._build()
         self.build_time = time.perf_counter() - t0
 
@@ -239,11 +240,14 @@ class Problem:
             f_fuel = Wt.fuel_fraction(tree, ac, W)
             fixed = self._fixed_mass(tree)
             mass = np.full_like(W, 3.0 * fixed)
+            closes = np.ones_like(W, dtype=bool)
             for _ in range(30):
                 f_e = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], mass, W, Y_need, self.propeller)
-                mass = np.where(1 - f_fuel - f_e > 0.01, fixed / (1 - f_fuel - f_e), np.inf)
-                mass = np.clip(mass, fixed, 1000 * fixed)
-        score = np.where(ok & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
+                closes = 1 - f_fuel - f_e > 0.01
+                mass = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
+                mass = np.clip(mass, fixed, 1000 * fixed)     # a finite start for the next step
+            closes &= mass < 1000 * fixed                      # inside the search region
+        score = np.where(ok & closes & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
         self.scan_found_design = bool(np.any(np.isfinite(score)))
         if not np.any(np.isfinite(score)):
             i = int(np.argmin(np.where(np.isfinite(Y_need), Y_need, np.inf)))
@@ -284,6 +288,8 @@ class Problem:
             if mode == "warm":
                 args.update(lam_g0=lg, lam_x0=lx)
                 solver = self.solver_warm
+            elif mode == "scan" and not self.scan_found_design:
+                solver = self._expecting_infeasible()
             sol = solver(**args)
             stats = solver.stats()
             x = np.array(sol["x"]).ravel()
@@ -298,6 +304,14 @@ class Problem:
                 # a finer scan over the whole W/S range finds no design either
                 return last
         return last
+
+    def _expecting_infeasible(self):
+        """IPOPT told to expect an infeasible problem (quicker certificate); built on first use."""
+        if self._solver_infeasible is None:
+            nlp = {"x": self._x, "p": self._P, "f": self._f_expr, "g": self._g_expr}
+            self._solver_infeasible = ca.nlpsol("sizing_infeasible", "ipopt", nlp,
+                                                {**_IPOPT, "ipopt.expect_infeasible_problem": "yes"})
+        return self._solver_infeasible
 
     def _finer_scan_finds_design(self, p) -> bool:
         self.initial_guess(p, n=200)
