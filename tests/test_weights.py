@@ -213,3 +213,35 @@ def test_payload_growth_factor_and_range_cost_match_re_solves():
             p[j] += s * h
             ms.append(prob.solve(p, sensitivities=False).design.takeoff_mass)
         assert costs[what] == pytest.approx((ms[0] - ms[1]) / (2 * h) * scale, rel=1e-2)
+
+
+def _mission_tree(segment, engine="turbofan-high-bypass"):
+    from sizing import model as Mo
+    tree = {"aircraft": {"aerodynamics": {"cd0": 0.02, "k1": 0.05, "cl_max": {"clean": 1.5}},
+                         "propulsion": {"type": engine, "engines": 2.0, "propeller_efficiency": 0.8},
+                         "weights": {"crew": 100.0, "payload": 500.0, "empty": {"model": "fraction", "value": 0.5}}},
+            "mission": {"tsfc": 0.6 / 3600, "reserve": 0.0, "segments": [segment]}, "requirements": {}}
+    return tree, Mo.aircraft(tree)
+
+
+def test_loiter_at_best_endurance_speed_uses_max_lift_to_drag():
+    # Source: Raymer Ch. 3 (REFERENCES.md §4.3): jet loiter at (L/D)max, W1/W0 = exp(-E C/(L/D));
+    # (L/D)max = 1/(2 sqrt(CD0 k1)) (Anderson, Aircraft Performance and Design §5.4).
+    tree, ac = _mission_tree({"kind": "loiter", "time": 3600.0, "altitude": 3000.0})
+    (_n, f, _b), = W.mission_fractions(tree, ac, 4000.0)
+    LDmax = 1 / (2 * math.sqrt(0.02 * 0.05))
+    assert float(f) == pytest.approx(math.exp(-3600 * 0.6 / 3600 / LDmax), rel=1e-12)
+
+
+def test_combat_segment_burns_fuel_at_the_thrust_of_its_load_factor():
+    # Source: Mattingly, Aircraft Engine Design 2nd ed., Eq. 3.16 (REFERENCES.md §3.5):
+    # W_f/W_i = exp(-TSFC (D/W) dt), D/W = q CD/(W/S) with CL = n (W/S)/q; hand calculation at
+    # 3 000 m, 200 m/s, n 3, W/S 4 000 N/m^2, 2 min.
+    from sizing.atmosphere import isa
+    tree, ac = _mission_tree({"kind": "combat", "time": 120.0, "load_factor": 3.0, "speed": 200.0,
+                              "altitude": 3000.0})
+    (_n, f, _b), = W.mission_fractions(tree, ac, 4000.0)
+    q = 0.5 * float(isa(3000.0).density) * 200.0 ** 2
+    CL = 3 * 4000.0 / q
+    D_W = q * (0.02 + 0.05 * CL ** 2) / 4000.0
+    assert float(f) == pytest.approx(math.exp(-(0.6 / 3600) * D_W * 120.0), rel=1e-12)
