@@ -463,8 +463,3 @@ def required_curve(req, ac, W_S, samples=240, refine=40):
     V_best = np.where(f(V_best) <= T[rows, j], V_best, V[rows, j])
     T_best = np.where(ok, T_best, np.inf)
     return T_best, None, V_best
-
-
-def namespace(d: dict) -> SimpleNamespace:
-    """Attribute access to a requirement's SI values."""
-    return SimpleNamespace(**d)

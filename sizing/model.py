@@ -150,9 +150,7 @@ def value_field(r: dict) -> str:
     from .constraints import KINDS
 
     name = KINDS[r["kind"]].value_field
-    if name in ("speed", "mach"):
-        return "mach" if "mach" in r else "speed"
-    if r["kind"] == "max-mach":
+    if name in ("speed", "mach"):       # whichever of the two the file gives
         return "mach" if "mach" in r else "speed"
     return name
 

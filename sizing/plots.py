@@ -120,11 +120,9 @@ class DiagramData:
 
 
 def _segment_betas(tree, ac, W_S):
-    mis = tree.get("mission")
-    if not mis or "fraction" in tree["aircraft"]["weights"].get("fuel", {}):
-        return {}
     with np.errstate(all="ignore"):
-        return {name: np.asarray(be, float) + 0.0 * W_S for name, _f, be in Wt.mission_fractions(tree, ac, W_S)}
+        return {name: np.asarray(be, float) + 0.0 * W_S
+                for name, be in Wt.segment_end_fractions(tree, ac, W_S).items()}
 
 
 def _sample(r, ac, W_S, seg):

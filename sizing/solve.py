@@ -86,7 +86,6 @@ class Problem:
             self.Y_bounds = (float(getattr(yb[0], "si", yb[0])), float(getattr(yb[1], "si", yb[1])))
         else:
             self.Y_bounds = (0.0, 100.0) if self.propeller else (0.0, 2.0)
-        self.explicit_bounds = {"wing_loading": bool(ws), "y": bool(yb)}
 
         self.scan_found_design = True
         self._solver_infeasible = None
@@ -113,11 +112,9 @@ class Problem:
         """
         ac = M.aircraft(tree)
         betas = {}
-        seg_end = {}
-        if "mission" in tree and tree["mission"] is not None and "fraction" not in tree["aircraft"]["weights"].get("fuel", {}):
-            for name, _f, beta_end in Wt.mission_fractions(tree, ac, W_S):
-                seg_end[name] = beta_end
-        f_fuel = Wt.fuel_fraction(tree, ac, W_S)
+        segs = Wt.mission_fractions(tree, ac, W_S) if Wt.has_mission_fuel(tree) else None
+        seg_end = Wt.segment_end_fractions(tree, ac, W_S, segs)
+        f_fuel = Wt.fuel_fraction(tree, ac, W_S, segs)
         f_empty = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], m_TO, W_S, Y, self.propeller)
         rows, vals = [], []
         for rid in self.req_ids:
@@ -183,7 +180,7 @@ class Problem:
         L = f + ca.dot(lam, g)
         self._dLdp = ca.Function("dLdp", [x, P, lam], [ca.jacobian(L, P)])
         self._g_fun = ca.Function("g", [x, P], [g, f_fuel, f_empty])
-        self.lbg = np.array([0.0 if w == "closure" else 0.0 for _, w in rows])
+        self.lbg = np.zeros(len(rows))
         self.ubg = np.array([0.0 if w == "closure" else np.inf for _, w in rows])
         self.lbx = np.array([self.WS_bounds[0] / self.WS_scale, self.Y_bounds[0] / self.Y_scale,
                              1e-3 * self._fixed_mass(self.tree0) / self.m_ref] + [0.01] * len(self.free))
@@ -213,13 +210,10 @@ class Problem:
         ok = np.ones_like(W, dtype=bool)
         speeds = {}
         ws_lim = np.full_like(W, np.inf)
-        seg_end = {}
         try:
-            if "mission" in tree and "fraction" not in tree["aircraft"]["weights"].get("fuel", {}):
-                for name, _f, be in Wt.mission_fractions(tree, ac, W):
-                    seg_end[name] = be
+            seg_end = Wt.segment_end_fractions(tree, ac, W)
         except Exception:  # noqa: BLE001 - a guess only
-            pass
+            seg_end = {}
         for rid in self.req_ids:
             r = tree["requirements"][rid]
             wf = r.get("weight_fraction")
@@ -418,16 +412,16 @@ class Problem:
             crew_mass=tree["aircraft"]["weights"].get("crew", 0.0),
             payload_mass=tree["aircraft"]["weights"].get("payload", 0.0))
         edges = []
-        for name, val, (lo, hi), explicit in (
-                ("wing_loading", W_S, self.WS_bounds, True),
-                ("power_to_weight" if self.propeller else "thrust_to_weight", Y, self.Y_bounds, True)):
+        for name, val, (lo, hi) in (
+                ("wing_loading", W_S, self.WS_bounds),
+                ("power_to_weight" if self.propeller else "thrust_to_weight", Y, self.Y_bounds)):
             span = hi - lo
             if abs(val - lo) <= 1e-6 * span and lo > 0:
                 edges.append(f"{name} lower bound")
             if abs(val - hi) <= 1e-6 * span:
                 edges.append(f"{name} upper bound")
         fuel_rows = ()
-        if "mission" in tree and "fraction" not in tree["aircraft"]["weights"].get("fuel", {}):
+        if Wt.has_mission_fuel(tree):
             segs = Wt.mission_fractions(tree, ac, W_S)
             fuel_rows = tuple((name, float(np.asarray(f)), float((np.asarray(b0) - np.asarray(be)) * m_TO))
                               for (name, f, be), b0 in zip(segs, [1.0] + [s[2] for s in segs[:-1]]))
@@ -441,7 +435,7 @@ class Problem:
         """Mission fuel sets the wing loading when fewer than two requirement
         rows are active (no vertex of the diagram pins W/S), the optimum is
         inside the W/S range and the fuel fraction changes with W/S."""
-        if "mission" not in self.tree0 or "fraction" in self.tree0["aircraft"]["weights"].get("fuel", {}):
+        if not Wt.has_mission_fuel(self.tree0):
             return False
         W_S = x[0] * self.WS_scale
         lo, hi = self.WS_bounds

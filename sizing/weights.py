@@ -28,8 +28,6 @@ All functions evaluate on floats, arrays and CasADi symbols.
 """
 from __future__ import annotations
 
-import math
-
 from . import _math as m
 from .atmosphere import g0, isa
 
@@ -241,13 +239,33 @@ def mission_fractions(tree: dict, ac, W_S):
     return out
 
 
-def fuel_fraction(tree: dict, ac, W_S):
-    """m_fuel/m_TO: the fixed fraction, or from the mission segments."""
+def has_mission_fuel(tree: dict) -> bool:
+    """True when the fuel comes from mission segments (no fixed fraction given)."""
+    return bool(tree.get("mission")) and "fraction" not in tree["aircraft"]["weights"].get("fuel", {})
+
+
+def segment_end_fractions(tree: dict, ac, W_S, segments=None) -> dict:
+    """{segment name: W_end/W_TO} at W_S, for ``weight_fraction: {after: ...}``.
+
+    Empty when the fuel is a fixed fraction. ``segments`` reuses an already
+    computed :func:`mission_fractions` list.
+    """
+    if not has_mission_fuel(tree):
+        return {}
+    segments = mission_fractions(tree, ac, W_S) if segments is None else segments
+    return {name: be for name, _f, be in segments}
+
+
+def fuel_fraction(tree: dict, ac, W_S, segments=None):
+    """m_fuel/m_TO: the fixed fraction, or from the mission segments.
+
+    ``segments`` reuses an already computed :func:`mission_fractions` list.
+    """
     fuel = tree["aircraft"]["weights"].get("fuel", {})
     if "fraction" in fuel:
         return fuel["fraction"] + 0.0 * W_S
     mis = tree["mission"]
-    segs = mission_fractions(tree, ac, W_S)
+    segs = mission_fractions(tree, ac, W_S) if segments is None else segments
     return fuel_fraction_from_segments(segs[-1][2], mis.get("reserve", 0.0), mis.get("trapped", 0.0))
 
 
@@ -266,12 +284,3 @@ def closure_mass(fixed_mass, fuel_frac, empty_frac):
     return fixed_mass / (1.0 - fuel_frac - empty_frac)
 
 
-def check_closure_possible(f_fuel: float, f_empty: float) -> str:
-    """Plain words when fuel plus empty fractions leave nothing for payload."""
-    if f_fuel + f_empty >= 1.0:
-        return (f"empty {f_empty:.2f} + fuel {f_fuel:.2f} of takeoff mass leave nothing for "
-                f"crew and payload")
-    return ""
-
-
-_ = math
