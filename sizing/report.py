@@ -117,6 +117,10 @@ def summary(result, path: str = "") -> str:
         lines += ["", "Mission fuel by segment"]
         for name, f, mf in result.fuel_breakdown:
             lines.append(f"  {name:<28} W1/W0 {f:.4f}   {mf:,.0f} kg")
+        extra = d.fuel_mass - sum(mf for _, _, mf in result.fuel_breakdown)
+        if extra > 0.5:
+            lines.append(f"  {'reserve and trapped fuel':<28} {'':12}   {extra:,.0f} kg")
+        lines.append(f"  {'total':<28} {'':12}   {d.fuel_mass:,.0f} kg")
     lines += ["", "Drivers (active requirements) and what each costs"]
     active = [r for r in result.requirements if r.active]
     if not active:

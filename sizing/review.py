@@ -150,8 +150,12 @@ def document(spec, res, *, diagram=True, envelope=True):
         blocks += [("h", 2, "Weight statement"),
                    ("table", ["item", "mass [kg]", "mass [lb]", "fraction of takeoff"], rows)]
         if res.fuel_breakdown:
-            blocks.append(("table", ["mission segment", "weight fraction W_end/W_start", "fuel [kg]"],
-                           [[n, f"{f:.4f}", f"{mf:,.0f}"] for n, f, mf in res.fuel_breakdown]))
+            seg_rows = [[n, f"{f:.4f}", f"{mf:,.0f}"] for n, f, mf in res.fuel_breakdown]
+            extra = res.design.fuel_mass - sum(mf for _, _, mf in res.fuel_breakdown)
+            if extra > 0.5:
+                seg_rows.append(["reserve and trapped fuel", "", f"{extra:,.0f}"])
+            seg_rows.append(["total", "", f"{res.design.fuel_mass:,.0f}"])
+            blocks.append(("table", ["mission segment", "weight fraction W_end/W_start", "fuel [kg]"], seg_rows))
         active = [r for r in res.requirements if r.active]
         drows = [[r.id, r.kind, cost_line(r),
                   f"{_n(r.sensitivity)} {r.sensitivity_unit}" if r.sensitivity is not None else "n/a"]
