@@ -36,13 +36,12 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from sizing import constraints as C  # noqa: E402
-from sizing import model as M  # noqa: E402
+from sizing.problem import tree as M  # noqa: E402
 from sizing import weights as Wt  # noqa: E402
-from sizing.atmosphere import g0  # noqa: E402
-from sizing.fileio import atomic_write  # noqa: E402
-from sizing.report import CAUTION  # noqa: E402
-from sizing.solve import Problem, solve  # noqa: E402
-from sizing.spec import load, validate  # noqa: E402
+from sizing.common.fileio import atomic_write  # noqa: E402
+from sizing.common.caution import CAUTION  # noqa: E402
+from sizing.problem import Problem, solve  # noqa: E402
+from sizing.inputs.spec import load, validate  # noqa: E402
 
 TRAINER = ROOT / "requirements" / "trainer-jet.yaml"
 MC_STUDY = ROOT / "studies" / "trainer-uncertainty.yaml"
@@ -202,7 +201,7 @@ def bench_grid(spec):
 # --------------------------------------------------------------------------
 
 def bench_solve(spec):
-    from sizing import study as S
+    from sizing.studies import runner as S
 
     builds = []
     for _ in range(5):
@@ -293,7 +292,7 @@ def parallel_capacity(n=4_000_000):
 
 
 def bench_sweep():
-    from sizing.study import run_study
+    from sizing.studies.runner import run_study
 
     study = {"base": str(TRAINER), "title": "1,000-point sweep",
              "sweep": {"requirements.turn-4g.load_factor": {"from": 3.0, "to": 5.0, "steps": 40},
@@ -331,7 +330,7 @@ def bench_sweep():
 def bench_mc(count=10_000):
     import yaml
 
-    from sizing.study import run_study
+    from sizing.studies.runner import run_study
 
     data = yaml.safe_load(MC_STUDY.read_text())
     data["sample"]["count"] = count

@@ -9,6 +9,8 @@ import argparse
 import os
 import sys
 
+from .common.caution import CAUTION
+
 EXIT_OK, EXIT_ERROR, EXIT_INPUT, EXIT_INFEASIBLE = 0, 1, 2, 3
 
 
@@ -60,28 +62,29 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _solve(path):
-    from .spec import load
+    from .inputs.spec import load
 
     spec = load(path)        # bad input is reported before the optimizer is even imported
-    from .solve import solve
+    from .problem import solve
 
     return spec, solve(spec)
 
 
 def cmd_solve(args) -> int:
-    from . import report
-
     spec, res = _solve(args.file)
     if args.json:
-        print(report.to_json(res))
+        from .reports.serialize import to_json
+
+        print(to_json(res))
     else:
-        print(report.summary(res, args.file))
+        from .reports.summary import summary
+
+        print(summary(res, args.file))
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
 
 
 def cmd_check(args) -> int:
-    from .report import CAUTION
-    from .spec import load
+    from .inputs.spec import load
 
     spec = load(args.file)
     print(f"{args.file}: valid ({len(spec.requirements)} requirements, "
@@ -93,11 +96,11 @@ def cmd_check(args) -> int:
 def cmd_schema(args) -> int:
     import json
 
-    from .spec import json_schema
+    from .inputs.spec import json_schema
 
     text = json.dumps(json_schema(), indent=2) + "\n"
     if args.output:
-        from .fileio import atomic_write
+        from .common.fileio import atomic_write
 
         atomic_write(args.output, text, "w")
         print(f"wrote {args.output}")
@@ -107,44 +110,58 @@ def cmd_schema(args) -> int:
 
 
 def cmd_diagram(args) -> int:
-    from .plots import write_diagram
+    from .charts.diagram import write_diagram
 
     spec, res = _solve(args.file)
     written = write_diagram(spec, res, args.output, data=args.data, units=args.units)
     for w in written:
         print(f"wrote {w}")
-    from .report import CAUTION
     print(CAUTION)
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
 
 
 def cmd_report(args) -> int:
-    from .review import write_report
+    from .reports.review import write_report
 
     spec, res = _solve(args.file)
     fmt = args.format or ("md" if args.output.endswith(".md") else "html")
     path = write_report(spec, res, args.output, fmt=fmt)
     print(f"wrote {path}")
-    from .report import CAUTION
     print(CAUTION)
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
 
 
 def cmd_envelope(args) -> int:
-    from .envelope import run_envelope
+    from .charts.envelope_plot import check_output
 
+    check_output(args.output)
     spec, res = _solve(args.file)
     if not res.feasible:
-        from . import report
-        print(report.summary(res, args.file))
+        from .reports.summary import summary
+
+        print(summary(res, args.file))
         return EXIT_INFEASIBLE
-    return run_envelope(spec, res, args.output, data=args.data, weight_fraction=args.weight_fraction)
+    from .charts.envelope import compute_envelope, status_text
+    from .charts.envelope_plot import write_envelope
+
+    env = compute_envelope(spec, res, args.weight_fraction)
+    print(env.table_text() + "\n\nRequirements at their own conditions")
+    print("\n".join(f"  {p.id:<18} {status_text(p):<16} {p.detail}   [{p.conditions}]" for p in env.points) + "\n")
+    print("\n".join(f"wrote {w}" for w in write_envelope(env, args.output, args.data)) + "\n" + CAUTION)
+    return EXIT_OK
 
 
 def cmd_study(args) -> int:
-    from .study import run_study_cli
+    from .studies.plots import summary, write_outputs
+    from .studies.runner import run_study
 
-    return run_study_cli(args.file, args.output, workers=args.workers, dask=args.dask, limit=args.limit)
+    result = run_study(args.file, workers=args.workers, dask=args.dask, limit=args.limit)
+    written = write_outputs(result, args.output)
+    print(summary(result))
+    for w in written:
+        print(f"wrote {w}")
+    print(CAUTION)
+    return EXIT_OK
 
 
 COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagram": cmd_diagram,
@@ -154,7 +171,7 @@ COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagr
 def main(argv=None) -> int:
     args = _parser().parse_args(argv)
     debug = getattr(args, "debug", False)
-    from .errors import InputError, SizingError
+    from .common.errors import InputError, SizingError
 
     try:
         return COMMANDS[args.command](args)

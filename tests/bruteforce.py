@@ -9,7 +9,7 @@ optimization.  # common practice, no source
 import numpy as np
 
 from sizing import constraints as C
-from sizing import model as M
+from sizing.problem import tree as M
 from sizing import weights as Wt
 
 

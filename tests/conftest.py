@@ -18,8 +18,8 @@ EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 @pytest.fixture(scope="session")
 def solved():
     """{file name: (spec, result)} for every example requirement file."""
-    from sizing.solve import solve
-    from sizing.spec import load
+    from sizing.problem import solve
+    from sizing.inputs.spec import load
 
     out = {}
     for path in EXAMPLES:

@@ -3,7 +3,7 @@ import casadi as ca
 import numpy as np
 import pytest
 
-from sizing.aero import (DragPolar, MachTable, induced_drag_factor, max_lift_to_drag, minimum_drag_speed,
+from sizing.physics.aero import (DragPolar, MachTable, induced_drag_factor, max_lift_to_drag, minimum_drag_speed,
                          oswald_efficiency_straight_wing, stall_speed)
 
 
@@ -81,7 +81,7 @@ def test_pchip_slopes_match_scipy_on_random_tables():
     # 1980), on increasing, decreasing and non-monotone tables of 2 to 7 points.
     from scipy.interpolate import PchipInterpolator
 
-    from sizing._math import pchip_slopes
+    from sizing.physics.shim import pchip_slopes
     rng = np.random.default_rng(3)
     for _ in range(200):
         n = int(rng.integers(2, 8))

@@ -3,7 +3,7 @@ import casadi as ca
 import numpy as np
 import pytest
 
-from sizing.atmosphere import isa
+from sizing.physics.atmosphere import isa
 
 # Source: U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562), values by GEOPOTENTIAL altitude,
 # REFERENCES.md §1.3 (computed from the defining constants of Part 1; agree with ICAO Doc 7488).

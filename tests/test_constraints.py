@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 
 from sizing import constraints as C
-from sizing import model as M
-from sizing.aero import induced_drag_factor
-from sizing.atmosphere import isa
+from sizing.problem import tree as M
+from sizing.physics.aero import induced_drag_factor
+from sizing.physics.atmosphere import isa
 
 R0 = 6356766.0
 KT = 1852.0 / 3600.0
@@ -110,7 +110,7 @@ def test_master_equation_supercruise_and_turn():
 def test_sustained_turn_kind_uses_lapse_and_beta():
     # Hand calculation with the master equation (Mattingly Eq. 2.11): jet at 15 000 ft, M0.6,
     # n 4, beta 0.85, alpha from the high-bypass lapse (Eq. 2.53) computed here.
-    from sizing.propulsion import thrust_lapse
+    from sizing.physics.propulsion import thrust_lapse
     ac = aircraft()
     h = 15000 * 0.3048
     d = {"id": "t", "kind": "sustained-turn", "load_factor": 4.0, "mach": 0.6, "altitude": h,

@@ -21,15 +21,17 @@ from scipy.interpolate import PchipInterpolator
 from scipy.optimize import brentq, minimize_scalar
 
 from sizing import constraints as C
-from sizing import model as M
-from sizing.aero import DragPolar
-from sizing.atmosphere import isa
-from sizing.envelope import (Conditions, Flight, compute_envelope, plot_envelope, render, report_section,
-                             specific_excess_power, sustained_load_factor)
-from sizing.errors import InputError
-from sizing.report import CAUTION
-from sizing.solve import solve
-from sizing.spec import load, validate
+from sizing.problem import tree as M
+from sizing.physics.aero import DragPolar
+from sizing.physics.atmosphere import isa
+from sizing.charts.envelope import compute_envelope
+from sizing.charts.envelope_plot import plot_envelope, render
+from sizing.charts.performance import Conditions, Flight, specific_excess_power, sustained_load_factor
+from sizing.reports.review import envelope_section
+from sizing.common.errors import InputError
+from sizing.common.caution import CAUTION
+from sizing.problem import solve
+from sizing.inputs.spec import load, validate
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
@@ -337,7 +339,7 @@ def test_plot_returns_handles_rejects_unknown_keywords_and_leaves_no_figure_open
 
 def test_report_section():
     spec, res, env = solved(ROOT / "requirements/regional-turboprop.yaml")
-    md, png = report_section(spec, res)
+    md, png = envelope_section(spec, res)
     assert md.startswith("## Envelope check") and CAUTION in md and "ceiling-oei" in md
     assert png[:4] == b"\x89PNG"
 

@@ -25,9 +25,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from sizing import cli
-from sizing.errors import InputError
-from sizing.report import CAUTION
-from sizing.spec import load, load_text, validate
+from sizing.common.errors import InputError
+from sizing.common.caution import CAUTION
+from sizing.inputs.spec import load, load_text, validate
 
 ROOT = Path(__file__).resolve().parents[1]
 BROKEN = ROOT / "tests" / "broken"

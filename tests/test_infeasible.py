@@ -30,13 +30,13 @@ from hypothesis import strategies as st
 
 from sizing import cli
 from sizing import constraints as C
-from sizing import model as M
+from sizing.problem import tree as M
 from sizing import weights as Wt
-from sizing.atmosphere import isa
-from sizing.errors import SolverError
-from sizing.report import as_dict
-from sizing.solve import Problem, build, solve
-from sizing.spec import load_text, validate
+from sizing.physics.atmosphere import isa
+from sizing.common.errors import SolverError
+from sizing.reports.serialize import as_dict
+from sizing.problem import Problem, build, solve
+from sizing.inputs.spec import load_text, validate
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
@@ -270,7 +270,7 @@ def test_a_design_that_fails_the_numpy_check_is_never_printed(monkeypatch):
 
 def test_diagnose_raises_solver_error_without_evidence(monkeypatch):
     # common practice, no source: no design, no relaxation, no infeasibility certificate
-    from sizing import diagnose as D
+    from sizing.problem import diagnose as D
 
     spec = load_text(EXAMPLES[0].read_text(), "x.yaml")
     prob = build(spec)

@@ -17,13 +17,15 @@ import numpy as np
 import pytest
 
 from sizing import constraints as C
-from sizing import model as M
-from sizing import plots as P
+from sizing.problem import tree as M
+from sizing.charts import diagram as P
+from sizing.charts import diagram_data as PD
+from sizing.charts import style as PS
 from sizing import weights as Wt
-from sizing.errors import InputError
-from sizing.report import CAUTION
-from sizing.solve import solve
-from sizing.spec import load, validate
+from sizing.common.errors import InputError
+from sizing.common.caution import CAUTION
+from sizing.problem import solve
+from sizing.inputs.spec import load, validate
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
@@ -61,7 +63,7 @@ def svg_texts(svg: bytes):
 def test_every_example_renders_png_svg_pdf(drawn, solved, name):
     h = drawn[name]
     spec, res = solved[name]
-    png, svg, pdf = (P.figure_bytes(h.figure, f, dpi=30) for f in ("png", "svg", "pdf"))
+    png, svg, pdf = (PS.figure_bytes(h.figure, f, dpi=30) for f in ("png", "svg", "pdf"))
     # Source: PNG signature (ISO/IEC 15948 §5.2), PDF header (ISO 32000-1 §7.5.2)
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     assert pdf[:5] == b"%PDF-"
@@ -136,7 +138,7 @@ def test_constant_mass_line_through_the_design_closes_to_its_mass(solved, name):
     spec, res = solved[name]
     d = res.design
     Y = d.power_to_weight if res.propeller else d.thrust_to_weight
-    m = P.closure_mass_grid(spec, [d.wing_loading], [Y])
+    m = PD.closure_mass_grid(spec, [d.wing_loading], [Y])
     assert m[0, 0] == pytest.approx(d.takeoff_mass, rel=1e-6)
 
 
@@ -185,7 +187,7 @@ def _check_csv(spec, text, every=10):
 @pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
 def test_csv_equals_required_curve(drawn, solved, name):
     spec, _res = solved[name]
-    _check_csv(spec, P.curves_csv(drawn[name].data))
+    _check_csv(spec, PD.curves_csv(drawn[name].data))
 
 
 def test_drawn_curves_are_the_sampled_data(drawn):
@@ -206,7 +208,7 @@ def test_infeasible_set_still_draws(infeasible, tmp_path):
     spec, res = infeasible
     h = P.constraint_diagram(spec, result=res)
     assert h.design_point is None
-    texts = svg_texts(P.figure_bytes(h.figure, "svg", dpi=30))
+    texts = svg_texts(PS.figure_bytes(h.figure, "svg", dpi=30))
     assert "no feasible design" in texts
     for r in spec.requirements:   # common practice, no source
         assert any(t == r.id or t.startswith(r.id + " ") for t in texts), r.id
@@ -258,8 +260,8 @@ def test_console_script_writes_svg_and_csv(tmp_path):
 
 def test_no_pyplot_no_display_nothing_left_open():
     # common practice, no source: figures are plain Figure objects, pyplot is never imported
-    code = ("import sys\nfrom sizing.spec import load\nfrom sizing.solve import solve\n"
-            "from sizing.plots import constraint_diagram, figure_bytes\n"
+    code = ("import sys\nfrom sizing.inputs.spec import load\nfrom sizing.problem import solve\n"
+            "from sizing.charts.diagram import constraint_diagram; from sizing.charts.style import figure_bytes\n"
             "s = load('requirements/touring-piston.yaml'); h = constraint_diagram(s, solve(s), mass_lines=False)\n"
             "figure_bytes(h.figure, 'png', dpi=20)\n"
             "assert 'matplotlib.pyplot' not in sys.modules\n")
@@ -291,7 +293,7 @@ def _lab(lin):
 def test_palette_contrast_on_white():
     # Source: WCAG 2.1, SC 1.4.11 (non-text contrast >= 3:1) with the relative luminance
     # and contrast ratio definitions of WCAG 2.1 §Definitions
-    for h in P.PALETTE:
+    for h in PS.PALETTE:
         L = float(np.array([0.2126, 0.7152, 0.0722]) @ _srgb_to_linear(_hex(h)))
         assert (1.0 + 0.05) / (L + 0.05) >= 3.0, h
 
@@ -310,9 +312,9 @@ def test_palette_stays_distinct_under_colour_vision_deficiency():
                                 [0.004733, 0.691367, 0.303900]]),
     }
     for name, Msim in sims.items():
-        labs = [_lab(np.clip(Msim @ _srgb_to_linear(_hex(h)), 0, 1)) for h in P.PALETTE]
+        labs = [_lab(np.clip(Msim @ _srgb_to_linear(_hex(h)), 0, 1)) for h in PS.PALETTE]
         for i in range(len(labs)):
             for j in range(i + 1, len(labs)):
                 d = float(np.linalg.norm(labs[i] - labs[j]))
-                assert d >= 20.0, (name, P.PALETTE[i], P.PALETTE[j], d)
-    assert len(set(P.MARKERS)) == len(P.MARKERS) >= len(P.PALETTE)
+                assert d >= 20.0, (name, PS.PALETTE[i], PS.PALETTE[j], d)
+    assert len(set(PS.MARKERS)) == len(PS.MARKERS) >= len(PS.PALETTE)

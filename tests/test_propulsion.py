@@ -3,8 +3,8 @@ import casadi as ca
 import numpy as np
 import pytest
 
-from sizing.atmosphere import isa
-from sizing.propulsion import (inlet_conditions, lapse_high_bypass, lapse_low_bypass, lapse_turbojet,
+from sizing.physics.atmosphere import isa
+from sizing.physics.propulsion import (inlet_conditions, lapse_high_bypass, lapse_low_bypass, lapse_turbojet,
                                power_lapse_piston, power_lapse_turboprop, thrust_lapse,
                                thrust_lapse_turboprop)
 

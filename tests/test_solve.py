@@ -13,9 +13,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from sizing import model as M
-from sizing.solve import Problem, build, solve
-from sizing.spec import load, validate
+from sizing.problem import tree as M
+from sizing.problem import Problem, build, solve
+from sizing.inputs.spec import load, validate
 
 from . import bruteforce as BF
 

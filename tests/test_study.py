@@ -15,10 +15,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from sizing.errors import InputError
-from sizing.solve import solve
-from sizing.spec import load, validate
-from sizing.study import load_study, run_study
+from sizing.common.errors import InputError
+from sizing.problem import solve
+from sizing.inputs.spec import load, validate
+from sizing.studies.runner import load_study, run_study
 
 ROOT = Path(__file__).resolve().parents[1]
 TRAINER = ROOT / "requirements" / "trainer-jet.yaml"
@@ -204,7 +204,7 @@ def test_quick_infeasibility_verdict_agrees_here():
 def test_batched_numpy_check_matches_the_solver_check_point_by_point():
     # the chunk's batched re-evaluation must accept and reject exactly what
     # Problem.verify does point by point  # common practice, no source
-    from sizing import study as S
+    from sizing.studies import runner as S
 
     st = load_study(_sample(3, count=12))
     ctx = S._context(S._job(st))

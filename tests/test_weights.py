@@ -8,10 +8,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from sizing import units
+from sizing.inputs import units
 from sizing import weights as W
-from sizing.solve import solve
-from sizing.spec import load, validate
+from sizing.problem import solve
+from sizing.inputs.spec import load, validate
 
 from . import bruteforce as BF
 from .test_solve import check_against_grid
@@ -196,7 +196,7 @@ def test_units_of_fuel_consumption_for_props():
 
 def test_payload_growth_factor_and_range_cost_match_re_solves():
     # common practice, no source: the multiplier-based costs equal central differences
-    from sizing.solve import Problem
+    from sizing.problem import Problem
     spec = load(ROOT / "requirements" / "long-range-jet.yaml")
     prob = Problem(spec)
     p0 = prob.parameters(spec)
@@ -216,7 +216,7 @@ def test_payload_growth_factor_and_range_cost_match_re_solves():
 
 
 def _mission_tree(segment, engine="turbofan-high-bypass"):
-    from sizing import model as Mo
+    from sizing.problem import tree as Mo
     tree = {"aircraft": {"aerodynamics": {"cd0": 0.02, "k1": 0.05, "cl_max": {"clean": 1.5}},
                          "propulsion": {"type": engine, "engines": 2.0, "propeller_efficiency": 0.8},
                          "weights": {"crew": 100.0, "payload": 500.0, "empty": {"model": "fraction", "value": 0.5}}},
@@ -237,7 +237,7 @@ def test_combat_segment_burns_fuel_at_the_thrust_of_its_load_factor():
     # Source: Mattingly, Aircraft Engine Design 2nd ed., Eq. 3.16 (REFERENCES.md §3.5):
     # W_f/W_i = exp(-TSFC (D/W) dt), D/W = q CD/(W/S) with CL = n (W/S)/q; hand calculation at
     # 3 000 m, 200 m/s, n 3, W/S 4 000 N/m^2, 2 min.
-    from sizing.atmosphere import isa
+    from sizing.physics.atmosphere import isa
     tree, ac = _mission_tree({"kind": "combat", "time": 120.0, "load_factor": 3.0, "speed": 200.0,
                               "altitude": 3000.0})
     (_n, f, _b), = W.mission_fractions(tree, ac, 4000.0)

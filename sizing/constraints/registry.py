@@ -1,0 +1,141 @@
+"""The registry of requirement kinds, and the curves the diagram and the starting scan draw.
+
+:data:`KINDS` maps each kind name to its constraint function (in
+:mod:`.speeds`, :mod:`.turns`, :mod:`.climb`, :mod:`.field`), its
+free-speed rule and its headline value field. :func:`required_curve`
+samples a requirement over an array of wing loadings, minimising over the
+free speed where the kind has one.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from types import SimpleNamespace
+
+import numpy as np
+
+from ..physics import shim as m
+from .climb import ceiling, climb, climb_gradient
+from .field import landing, takeoff
+from .flight import Bound, condition, config_of
+from .speeds import cruise, max_mach, stall_speed
+from .turns import excess_power, instantaneous_turn, sustained_turn
+
+
+@dataclass(frozen=True)
+class Kind:
+    """A requirement kind: its function, free-speed rule and headline value."""
+
+    function: object
+    free_speed: str        # "never" | "always" | "if-no-speed"
+    value_field: str       # the field whose sensitivity is reported
+    load_factor_field: str = ""   # field holding n for the free-speed stall bound
+    reference: str = ""
+
+    def has_free_speed(self, req) -> bool:
+        if self.free_speed == "always":
+            return True
+        if self.free_speed == "if-no-speed":
+            return getattr(req, "speed", None) is None and getattr(req, "mach", None) is None
+        return False
+
+
+KINDS = {
+    "stall-speed": Kind(stall_speed, "never", "speed", reference="lift equation; Raymer §5.3"),
+    "sustained-turn": Kind(sustained_turn, "never", "load_factor", reference="Mattingly Eq. 2.11"),
+    "max-mach": Kind(max_mach, "never", "mach", reference="Mattingly Eq. 2.11"),
+    "ceiling": Kind(ceiling, "always", "altitude", reference="Mattingly Eq. 2.11; Gudmundsson Eq. 3-6"),
+    "climb": Kind(climb, "if-no-speed", "climb_rate", reference="Gudmundsson Eq. 3-3"),
+    "excess-power": Kind(excess_power, "never", "excess_power", reference="Mattingly Eq. 2.11"),
+    "cruise": Kind(cruise, "never", "speed", reference="Mattingly Eq. 2.11; Gudmundsson Eq. 3-5"),
+    "instantaneous-turn": Kind(instantaneous_turn, "never", "load_factor", reference="lift equation"),
+    "takeoff": Kind(takeoff, "never", "ground_roll", reference="Gudmundsson Eq. 3-4"),
+    "landing": Kind(landing, "never", "ground_roll", reference="Mattingly §2.2.9; Raymer Ch. 17"),
+    "climb-gradient": Kind(climb_gradient, "never", "gradient", reference="Raymer Ch. 5; 14 CFR 25.121"),
+}
+
+
+def evaluate(req, ac, W_S, V=None) -> Bound:
+    """Evaluate a requirement's constraint at W_S (and its free speed V)."""
+    return KINDS[req.kind].function(W_S, V, req, ac)
+
+
+def free_speed_range(req, ac, W_S):
+    """Lowest and highest free speed [m/s] at W_S: stall (CLmax of the
+    requirement's configuration) and the speed limit / polar Mach table."""
+    air = condition(req)
+    n = 1.0
+    V_lo = m.sqrt(2.0 * n * req.beta * W_S / (air.density * ac.polar.CLmax(config_of(req))))
+    V_hi = max_free_speed(ac, air)
+    return V_lo, V_hi
+
+
+def max_free_speed(ac, air):
+    """Upper bound on a free speed at a condition [m/s]."""
+    a = air.speed_of_sound
+    tops = []
+    if ac.speed_limit_mach is not None:
+        tops.append(ac.speed_limit_mach * a)
+    if ac.speed_limit_speed is not None:
+        tops.append(ac.speed_limit_speed + 0.0 * a)
+    if np.isfinite(ac.polar.mach_max):
+        tops.append(ac.polar.mach_max * a)
+    if not tops:
+        tops.append(0.95 * a)     # no limit given: stay subsonic-ish by default
+    V = tops[0]
+    for t in tops[1:]:
+        V = m.fmin(V, t)
+    return V
+
+
+def required_curve(req, ac, W_S, samples=240, refine=40):
+    """Numpy curve of a requirement over an array of wing loadings.
+
+    Returns (thrust, wing_loading_limit, best_speed): required T_SL/W_TO (or
+    P_SL/W_TO) per W_S, minimised over the free speed where the kind has one
+    (dense scan from stall to the speed limit, then golden-section
+    refinement); ``inf`` where no speed works; None where the kind sets no
+    such bound. ``req.beta`` may be a number or an array over ``W_S``.
+    """
+    W_S = np.atleast_1d(np.asarray(W_S, dtype=float))
+    kind = KINDS[req.kind]
+    if not kind.has_free_speed(req):
+        b = evaluate(req, ac, W_S)
+        thrust = None if b.thrust is None else np.broadcast_to(np.asarray(b.thrust, float), W_S.shape).copy()
+        wsl = None if b.wing_loading is None else np.broadcast_to(np.asarray(b.wing_loading, float), W_S.shape).copy()
+        return thrust, wsl, None
+    V_lo, V_hi = free_speed_range(req, ac, W_S)
+    V_lo = np.broadcast_to(np.asarray(V_lo, float), W_S.shape)
+    V_hi = np.broadcast_to(np.asarray(V_hi, float), W_S.shape)
+    ok = V_hi >= V_lo
+    u = np.linspace(0.0, 1.0, samples)
+    V = V_lo[:, None] + u[None, :] * np.maximum(V_hi - V_lo, 0.0)[:, None]
+
+    beta = np.asarray(req.beta, dtype=float)
+    req2 = req
+    if beta.ndim and beta.size > 1:       # a weight fraction per wing loading (mission `after:`)
+        req2 = SimpleNamespace(**{**vars(req), "beta": beta.reshape(-1)[:, None]})
+
+    def f(Vx):
+        if Vx.ndim == 2:
+            return np.asarray(evaluate(req2, ac, W_S[:, None], Vx).thrust, float)
+        return np.asarray(evaluate(req, ac, W_S, Vx).thrust, float)
+
+    T = f(V)
+    T = np.where(np.isfinite(T) & (T > 0), T, np.inf)
+    j = np.argmin(T, axis=1)
+    rows = np.arange(W_S.size)
+    a = V[rows, np.maximum(j - 1, 0)]
+    b = V[rows, np.minimum(j + 1, samples - 1)]
+    phi = (np.sqrt(5.0) - 1.0) / 2.0
+    for _ in range(refine):
+        c = b - phi * (b - a)
+        d = a + phi * (b - a)
+        fc, fd = f(c), f(d)
+        left = fc < fd
+        b = np.where(left, d, b)
+        a = np.where(left, a, c)
+    V_best = 0.5 * (a + b)
+    T_best = np.minimum(f(V_best), T[rows, j])
+    V_best = np.where(f(V_best) <= T[rows, j], V_best, V[rows, j])
+    T_best = np.where(ok, T_best, np.inf)
+    return T_best, None, V_best

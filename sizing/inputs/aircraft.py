@@ -1,0 +1,246 @@
+"""The ``aircraft`` section of a requirement file: drag polar, propulsion, speed limit, weights.
+
+Plausibility bounds are wide envelopes around published typical values
+(Raymer Ch. 4-6, Mattingly §2); they catch typing slips such as CLmax 9 or a
+Mach table in knots, not unusual designs (common practice, no source, for the
+exact limits).
+"""
+from __future__ import annotations
+
+import difflib
+from typing import Annotated, Literal, Optional, Union
+
+from pydantic import Field, field_validator, model_validator
+
+from ..common.errors import FieldError
+from . import units
+from .fields import ArealMass, EngineMass, Fraction, LiftCoefficient, MachNumber, Mass, Number, Speed, Strict
+from .fields import positive as _positive
+from .fields import within as _within
+
+
+class _Table(Strict):
+    mach: list[Number] = Field(min_length=2, description="strictly increasing Mach numbers from 0 up")
+
+    @field_validator("mach")
+    @classmethod
+    def _increasing(cls, v):
+        bad = next((i for i, (a, b) in enumerate(zip(v, v[1:])) if not (b > a)), None)
+        if bad is not None:
+            raise ValueError(f"Mach table {v} is not strictly increasing (entry {bad + 1}: "
+                             f"{v[bad + 1]:g} after {v[bad]:g})")
+        if not v[0] >= 0:
+            raise ValueError(f"Mach numbers cannot be negative (first entry {v[0]:g})")
+        if not v[-1] <= 5.0:
+            raise ValueError(f"Mach table runs to {v[-1]:g}; the models stop at Mach 5 "
+                             f"(is it a speed in knots?)")
+        return v
+
+    def _check(self, values, name, hi):
+        if len(values) != len(self.mach):
+            raise FieldError(name, f"{name} has {len(values)} entries but mach has {len(self.mach)}; "
+                                   f"give one {name} per Mach number")
+        for i, c in enumerate(values):
+            _positive(f"{name} entry {i + 1}", c, hi, field=(name, i))
+
+
+class CD0Table(_Table):
+    cd0: list[Number] = Field(description="zero-lift drag coefficient at each Mach number")
+
+    @model_validator(mode="after")
+    def _len(self):
+        self._check(self.cd0, "cd0", 0.5)
+        return self
+
+
+class K1Table(_Table):
+    k1: list[Number] = Field(description="induced-drag factor at each Mach number")
+
+    @model_validator(mode="after")
+    def _len(self):
+        self._check(self.k1, "k1", 2.0)
+        return self
+
+
+class CLMax(Strict):
+    clean: LiftCoefficient = Field(description="clean-wing maximum lift coefficient")
+    takeoff: Optional[LiftCoefficient] = Field(None, description="takeoff flaps (default: clean)")
+    landing: Optional[LiftCoefficient] = Field(None, description="landing flaps (default: takeoff)")
+
+    @field_validator("clean", "takeoff", "landing")
+    @classmethod
+    def _plausible(cls, v):
+        if v is not None and not (0.2 <= v <= 4.5):
+            raise ValueError(f"CLmax {v:g} is outside the plausible range 0.2 to 4.5")
+        return v
+
+
+class Aerodynamics(Strict):
+    cd0: Union[Number, CD0Table] = Field(description="zero-lift drag coefficient, or a Mach table")
+    aspect_ratio: Optional[Number] = None
+    oswald_efficiency: Optional[Number] = Field(None, description="default: Raymer's straight-wing estimate from the aspect ratio")
+    k1: Optional[Union[Number, K1Table]] = Field(None, description="induced-drag factor; default 1/(pi A e)")
+    k2: Number = 0.0
+    cl_max: CLMax
+    takeoff_drag_increment: Number = 0.0
+    landing_drag_increment: Number = 0.0
+
+    @field_validator("cd0")
+    @classmethod
+    def _cd0(cls, v):
+        return _positive("cd0", v, 0.5) if isinstance(v, float) else v
+
+    @field_validator("aspect_ratio")
+    @classmethod
+    def _ar(cls, v):
+        return _positive("aspect_ratio", v, 40.0)
+
+    @field_validator("oswald_efficiency")
+    @classmethod
+    def _e(cls, v):
+        return _within("oswald_efficiency", v, 0.2, 1.0)
+
+    @field_validator("k2")
+    @classmethod
+    def _k2(cls, v):
+        return _within("k2", v, -0.5, 0.5)
+
+    @field_validator("takeoff_drag_increment", "landing_drag_increment")
+    @classmethod
+    def _inc(cls, v):
+        return _within("drag increment", v, 0.0, 0.3)
+
+    @model_validator(mode="after")
+    def _k1_source(self):
+        if self.k1 is None and self.aspect_ratio is None:
+            raise FieldError("aspect_ratio", "give k1, or aspect_ratio (with optional oswald_efficiency)")
+        if isinstance(self.k1, float):
+            _positive("k1", self.k1, 2.0)
+        return self
+
+    @property
+    def mach_max(self) -> float:
+        tops = [t.mach[-1] for t in (self.cd0, self.k1) if isinstance(t, _Table)]
+        return min(tops) if tops else float("inf")
+
+
+class Propulsion(Strict):
+    type: Literal["turbojet", "turbofan-low-bypass", "turbofan-high-bypass", "turboprop", "piston"]
+    engines: int = Field(1, ge=1, le=8)
+    throttle_ratio: Number = 1.0
+    afterburner: bool = False
+    propeller_efficiency: Number = 0.8
+
+    @field_validator("throttle_ratio")
+    @classmethod
+    def _tr(cls, v):
+        return _within("throttle_ratio", v, 0.9, 1.3, "0.9 to 1.3 (typical 1.0 to 1.08)")
+
+    @field_validator("propeller_efficiency")
+    @classmethod
+    def _eta(cls, v):
+        return _within("propeller_efficiency", v, 0.2, 0.95)
+
+
+class SpeedLimit(Strict):
+    mach: Optional[MachNumber] = None
+    speed: Optional[Speed] = None
+
+    @model_validator(mode="after")
+    def _one(self):
+        if self.mach is None and self.speed is None:
+            raise ValueError("give mach or speed")
+        _positive("mach", self.mach, 5.0)
+        _positive("speed", self.speed, 1700.0)
+        return self
+
+
+class EmptyComponents(Strict):
+    model: Literal["components"]
+    wing: ArealMass
+    propulsion: EngineMass
+    other: Fraction
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        _positive("wing", self.wing, 1000.0)
+        _positive("propulsion", self.propulsion)
+        if not (0.0 <= self.other < 1.0):
+            raise FieldError("other", f"other {self.other:g} must be a fraction of takeoff mass in [0, 1)")
+        return self
+
+
+class EmptyFraction(Strict):
+    model: Literal["fraction"]
+    value: Fraction
+
+    @field_validator("value")
+    @classmethod
+    def _v(cls, v):
+        if not (0.0 < v < 1.0):
+            raise ValueError(f"empty fraction {v:g} must lie between 0 and 1")
+        return v
+
+
+class EmptyStatistical(Strict):
+    model: Literal["statistical"]
+    preset: Optional[str] = Field(None, description="a named aircraft class of the published regression")
+    a: Optional[Number] = Field(None, description="coefficient A (pound units) of We/W0 = A W0^C K_vs")
+    c: Optional[Number] = None
+    variable_sweep: bool = False
+    b: Optional[Number] = Field(None, description="refined form: b of We/W0 = a + b W0^C1 A^C2 (T/W)^C3 (W/S)^C4 M^C5")
+    exponents: Optional[list[Number]] = Field(None, description="refined form: C1..C5")
+    max_mach: Optional[MachNumber] = None
+
+    @model_validator(mode="after")
+    def _given(self):
+        from ..weights.empty import STATISTICAL_PRESETS
+        if self.preset is not None and self.preset not in STATISTICAL_PRESETS:
+            near = difflib.get_close_matches(self.preset, list(STATISTICAL_PRESETS), 1)
+            hint = f" (did you mean {near[0]!r}?)" if near else ""
+            raise FieldError("preset", f"unknown preset {self.preset!r}{hint}; valid: "
+                                       f"{', '.join(STATISTICAL_PRESETS)}")
+        if self.preset is None and (self.a is None or self.c is None):
+            raise FieldError("a" if self.a is None else "c", "give a preset, or the coefficients a and c")
+        if self.exponents is not None and len(self.exponents) != 5:
+            raise FieldError("exponents", f"exponents takes five numbers C1..C5, got {len(self.exponents)}")
+        _positive("max_mach", self.max_mach, 5.0)
+        return self
+
+
+Empty = Annotated[Union[EmptyComponents, EmptyFraction, EmptyStatistical], Field(discriminator="model")]
+
+
+class Fuel(Strict):
+    fraction: Optional[Fraction] = None
+
+    @field_validator("fraction")
+    @classmethod
+    def _f(cls, v):
+        if v is not None and not (0.0 <= v < 1.0):
+            raise ValueError(f"fuel fraction {v:g} must lie in [0, 1)")
+        return v
+
+
+class Weights(Strict):
+    crew: Mass = Field(default_factory=lambda: units.parse("0 kg", "mass"))
+    payload: Mass = Field(default_factory=lambda: units.parse("0 kg", "mass"))
+    empty: Empty
+    fuel: Fuel = Field(default_factory=Fuel)
+
+    @model_validator(mode="after")
+    def _fixed(self):
+        for name in ("crew", "payload"):
+            if not getattr(self, name).si >= 0:
+                raise FieldError(name, f"{name} cannot be negative, got {getattr(self, name).text}")
+        if not self.crew.si + self.payload.si > 0:
+            raise FieldError("payload", "crew plus payload must be positive: it is what the weight "
+                                        "closure scales")
+        return self
+
+
+class Aircraft(Strict):
+    aerodynamics: Aerodynamics
+    propulsion: Propulsion
+    speed_limit: Optional[SpeedLimit] = None
+    weights: Weights

@@ -1,0 +1,201 @@
+"""Field types of the requirement-file models (pydantic): ``Length``, ``Speed``, ``Number``, ...
+
+Each dimensional type parses ``"<number> <unit>"`` with :func:`.units.parse`
+and carries a JSON Schema pattern; the plain-number types refuse units and
+carry their plausible range. :func:`positive` and :func:`within` are the
+NaN-safe range checks the models use.
+"""
+from __future__ import annotations
+
+import math
+from typing import Annotated
+
+from pydantic import BaseModel, BeforeValidator, ConfigDict, WithJsonSchema, model_validator
+
+from ..common.errors import FieldError
+from .units import DIMENSIONS, Quantity, UnitError, parse, parse_fraction
+
+# a number, then a unit (which starts with a letter or a symbol, or is 1/...)
+DIMENSIONAL = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*([^\s\d.+-]|1\s*/).*$"
+
+
+def _q(dim: str):
+    d = DIMENSIONS[dim]
+    text = {"type": "string", "description": f"{d.name} with a unit, e.g. {d.examples}", "pattern": DIMENSIONAL}
+    if dim == "temperature_difference":      # a bare 0 needs no unit
+        text = {"anyOf": [text, {"const": 0}], "description": text["description"]}
+    return Annotated[
+        Quantity,
+        BeforeValidator(lambda v, _d=dim: v if isinstance(v, Quantity) else parse(v, _d)),
+        WithJsonSchema(text),
+    ]
+
+
+Length = _q("length")
+Speed = _q("speed")
+Mass = _q("mass")
+Time = _q("time")
+TempDelta = _q("temperature_difference")
+WingLoading = _q("wing_loading")
+ArealMass = _q("areal_mass")
+PowerToWeight = _q("power_to_weight")
+Tsfc = _q("tsfc")
+
+
+def _mass_per_engine(v):
+    if isinstance(v, Quantity):
+        return v
+    try:
+        return parse(v, "mass_per_thrust")
+    except UnitError:
+        try:
+            return parse(v, "mass_per_power")
+        except UnitError:
+            raise UnitError(
+                f"{v!r} is not a mass per sea-level thrust ('0.025 kg/N') nor per sea-level power "
+                f"('0.9 kg/kW')") from None
+
+
+EngineMass = Annotated[Quantity, BeforeValidator(_mass_per_engine),
+                       WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "mass per sea-level thrust "
+                                       "('0.025 kg/N') or, for propeller aircraft, per power ('0.9 kg/kW')"})]
+
+
+def _fuel_consumption(v):
+    if isinstance(v, Quantity):
+        return v
+    for dim in ("tsfc", "psfc"):
+        try:
+            return parse(v, dim)
+        except UnitError:
+            pass
+    raise UnitError(f"{v!r} is not a fuel consumption: jets give thrust-specific ('0.9 1/h', "
+                          f"'22 mg/(N*s)'), propeller aircraft power-specific ('0.45 lb/(hp*h)')")
+
+
+FuelConsumption = Annotated[Quantity, BeforeValidator(_fuel_consumption),
+                            WithJsonSchema({"type": "string", "pattern": DIMENSIONAL, "description": "thrust-specific "
+                                            "('0.9 1/h', '22 mg/(N*s)') or power-specific "
+                                            "('0.45 lb/(hp*h)') fuel consumption"})]
+
+Fraction = Annotated[float, BeforeValidator(parse_fraction),
+                     WithJsonSchema({"anyOf": [{"type": "number"},
+                                               {"type": "string", "pattern": r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*%?\s*$"}],
+                                     "description": "a number, or a percentage such as '6 %'"})]
+
+
+_NUMERIC = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$"
+
+
+def _number(v):
+    if v is None:
+        raise ValueError("no value given; write a number here, or remove the key to use the default")
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        if isinstance(v, str):
+            try:
+                out = float(v)
+            except ValueError:
+                out = None
+            if out is not None and math.isfinite(out):
+                return out
+            if out is None and _looks_dimensional(v):
+                raise ValueError(f"{v!r} has a unit, but this value is a plain number (dimensionless); "
+                                 f"write it without the unit")
+        raise ValueError(f"{v!r} is not a number (this value is dimensionless)")
+    if not math.isfinite(v):
+        raise ValueError(f"{v!r} is not a finite number")
+    return float(v)
+
+
+def _looks_dimensional(text: str) -> bool:
+    parts = text.split(None, 1)
+    if len(parts) != 2:
+        return False
+    try:
+        float(parts[0])
+    except ValueError:
+        return False
+    return True
+
+
+Number = Annotated[float, BeforeValidator(_number),
+                   WithJsonSchema({"anyOf": [{"type": "number"}, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+def _bounded(lo=None, hi=None, open_lo=False):
+    """A Number whose JSON Schema carries its plausible range (the validators check it too)."""
+    num: dict = {"type": "number"}
+    if lo is not None:
+        num["exclusiveMinimum" if open_lo else "minimum"] = lo
+    if hi is not None:
+        num["maximum"] = hi
+    return Annotated[float, BeforeValidator(_number),
+                     WithJsonSchema({"anyOf": [num, {"type": "string", "pattern": _NUMERIC}]})]
+
+
+MachNumber = _bounded(0.0, 5.0, open_lo=True)
+LoadFactor = _bounded(0.0, 15.0, open_lo=True)
+LiftCoefficient = _bounded(0.2, 4.5)
+
+
+def _text(v):
+    """Free text (title, note, names): numbers and dates are read as their text."""
+    if isinstance(v, str):
+        return v
+    if v is None:
+        raise ValueError("no text given")
+    if isinstance(v, (dict, list)):
+        raise ValueError(f"expected text, got a {'mapping' if isinstance(v, dict) else 'list'}")
+    return str(v)
+
+
+Text = Annotated[str, BeforeValidator(_text), WithJsonSchema({"type": ["string", "number"]})]
+
+
+def _identifier(v):
+    if isinstance(v, str):
+        if not v.strip():
+            raise ValueError("id is empty; give each requirement a short unique name such as 'turn-4g'")
+        return v
+    raise ValueError(f"id {v!r} must be text: write a name such as 'turn-4g', or quote it (id: '{v}')")
+
+
+Identifier = Annotated[str, BeforeValidator(_identifier), WithJsonSchema({"type": "string", "minLength": 1})]
+
+
+def positive(name, v, hi=None, field=None):
+    """Positive and (optionally) at most ``hi``; raises FieldError on ``field`` (default ``name``)."""
+    if v is None:
+        return v
+    val = v.si if isinstance(v, Quantity) else v
+    shown = getattr(v, "text", v)
+    if not val > 0:
+        raise FieldError(field or name, f"{name} must be positive, got {shown}")
+    if hi is not None and not val <= hi:
+        raise FieldError(field or name, f"{name} {shown} is not plausible (at most {hi:g})")
+    return v
+
+
+def within(name, v, lo, hi, what="", field=None):
+    """``lo <= v <= hi`` (NaN-safe), else a FieldError naming the range."""
+    if v is None:
+        return v
+    val = v.si if isinstance(v, Quantity) else v
+    if not (lo <= val <= hi):
+        shown = getattr(v, "text", v)
+        raise FieldError(field or name, f"{name} {shown} is outside {what or f'{lo:g} to {hi:g}'}")
+    return v
+
+
+class Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, arbitrary_types_allowed=True)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _no_empty_values(cls, data):
+        # "key:" with nothing after it is a slip, not a request for the default
+        if isinstance(data, dict):
+            for k, v in data.items():
+                if v is None and k in cls.model_fields:
+                    raise FieldError(k, "no value given; write a value, or remove the key to use the default")
+        return data

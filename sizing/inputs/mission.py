@@ -1,0 +1,119 @@
+"""The ``mission`` section of a requirement file: segments, fuel consumption, reserve."""
+from __future__ import annotations
+
+from typing import Annotated, Literal, Optional, Union
+
+from pydantic import Field, field_validator, model_validator
+
+from ..common.errors import FieldError
+from ..physics.atmosphere import H_MAX, H_MIN
+from . import units
+from .fields import (
+    Fraction,
+    FuelConsumption,
+    Length,
+    LoadFactor,
+    MachNumber,
+    Speed,
+    Strict,
+    TempDelta,
+    Text,
+    Time,
+)
+from .fields import positive as _positive
+from .fields import within as _within
+
+
+def flight_condition(obj, need_speed: bool):
+    """Shared checks of a flight condition: altitude, offset, Mach or speed, load factor."""
+    _within("altitude", obj.altitude, H_MIN, H_MAX,
+            f"the standard atmosphere model ({H_MIN:g} m to {H_MAX:g} m)")
+    _within("temperature_offset", obj.temperature_offset, -80.0, 60.0, "-80 K to +60 K")
+    mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
+    if mach is not None and speed is not None:
+        raise FieldError("speed", "give mach or speed, not both")
+    if need_speed and mach is None and speed is None:
+        raise FieldError("mach", "needs mach or speed (true airspeed)")
+    if mach is not None and not (0.0 < mach <= 5.0):
+        raise FieldError("mach", f"mach {mach:g} must lie in (0, 5]")
+    if speed is not None:
+        _positive("speed", speed, 1700.0)
+    n = getattr(obj, "load_factor", None)
+    if n is not None and not (0.0 < n <= 15.0):
+        raise FieldError("load_factor", f"load_factor {n:g} must lie in (0, 15]")
+
+
+class _Segment(Strict):
+    name: Optional[Text] = None
+
+
+class FixedSegment(_Segment):
+    kind: Literal["fixed"]
+    fraction: Fraction
+
+    @field_validator("fraction")
+    @classmethod
+    def _f(cls, v):
+        if not (0.0 < v <= 1.0):
+            raise ValueError(f"segment weight fraction {v:g} must lie in (0, 1]")
+        return v
+
+
+
+class _Flown(_Segment):
+    mach: Optional[MachNumber] = None
+    speed: Optional[Speed] = None
+    altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
+    temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
+    tsfc: Optional[FuelConsumption] = None
+
+    @model_validator(mode="after")
+    def _flown(self):
+        flight_condition(self, need_speed=self.kind in ("combat", "maneuver"))
+        _positive("tsfc", self.tsfc)
+        _positive("range", getattr(self, "range", None), 4.0e7)
+        _positive("time", getattr(self, "time", None), 1.0e6)
+        return self
+
+
+class CruiseSegment(_Flown):
+    kind: Literal["cruise"]
+    range: Length
+
+
+class LoiterSegment(_Flown):
+    kind: Literal["loiter"]
+    time: Time
+
+
+class CombatSegment(_Flown):
+    kind: Literal["combat", "maneuver"]
+    time: Time
+    load_factor: LoadFactor = 1.0
+
+
+Segment = Annotated[Union[FixedSegment, CruiseSegment, LoiterSegment, CombatSegment], Field(discriminator="kind")]
+
+
+class Mission(Strict):
+    tsfc: Optional[FuelConsumption] = None
+    reserve: Fraction = 0.0
+    trapped: Fraction = 0.0
+    segments: list[Segment] = Field(min_length=1)
+
+    @model_validator(mode="after")
+    def _names(self):
+        seen = {}
+        for i, s in enumerate(self.segments):
+            if s.name and s.name in seen:
+                raise FieldError(("segments", i, "name"), f"duplicate segment name {s.name!r} (also "
+                                 f"segment {seen[s.name] + 1}); names must be unique")
+            if s.name:
+                seen[s.name] = i
+            if s.kind != "fixed" and s.tsfc is None and self.tsfc is None:
+                raise FieldError(("segments", i), f"segment {i + 1} ({s.name or s.kind}) burns fuel but "
+                                 f"no tsfc is given (mission.tsfc or the segment's own)")
+        _positive("tsfc", self.tsfc)
+        _within("reserve", self.reserve, 0.0, 0.5, "0 to 50 %")
+        _within("trapped", self.trapped, 0.0, 0.1, "0 to 10 %")
+        return self

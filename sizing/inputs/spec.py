@@ -1,0 +1,173 @@
+"""Requirement files: YAML -> validated models (pydantic) -> :class:`Spec` with its SI tree.
+
+:func:`load` returns a :class:`Spec`: the validated model, the raw data (for
+trade studies, which change a value and validate again) and :meth:`Spec.tree`,
+the same content as nested dicts of SI floats with the YAML's own key
+names, which the physics and the solver read. Every error names the file,
+the line and the field path, what was wrong and what would fit.
+"""
+from __future__ import annotations
+
+import hashlib
+from pathlib import Path
+
+from pydantic import BaseModel, ValidationError
+
+from ..common.errors import InputError
+from ..physics.propulsion import PROPELLER_TYPES
+from . import units
+from .locate import located
+from .reader import read_yaml
+from .schema import RequirementFile
+
+EMPTY = "the file is empty; a requirement file is a mapping with title, aircraft and requirements"
+
+
+class Spec:
+    """A validated requirement file: the model, its raw data and its SI tree."""
+
+    def __init__(self, model: RequirementFile, data: dict, path: str = "<memory>", text: str = ""):
+        self.model = model
+        self.data = data
+        self.path = path
+        self.sha256 = hashlib.sha256(text.encode()).hexdigest() if text else ""
+
+    @property
+    def title(self) -> str:
+        return self.model.title
+
+    @property
+    def requirements(self):
+        return self.model.requirements
+
+    @property
+    def is_propeller(self) -> bool:
+        return self.model.aircraft.propulsion.type in PROPELLER_TYPES
+
+    def tree(self) -> dict:
+        """Nested dicts of SI floats with the YAML's key names (defaults filled)."""
+        return _si(self.model)
+
+    def requirement(self, rid: str):
+        for r in self.model.requirements:
+            if r.id == rid:
+                return r
+        raise KeyError(rid)
+
+
+def _si(obj):
+    if isinstance(obj, units.Quantity):
+        return obj.si
+    if isinstance(obj, BaseModel):
+        out = {}
+        for name in type(obj).model_fields:
+            v = getattr(obj, name)
+            if v is None:
+                continue
+            out[name] = _si(v)
+        return out
+    if isinstance(obj, (list, tuple)):
+        return [_si(v) for v in obj]
+    if isinstance(obj, bool) or isinstance(obj, str):
+        return obj
+    if isinstance(obj, int):
+        return float(obj)
+    return obj
+
+
+def validate(data, filename: str = "<memory>", lines: dict | None = None, text: str = "") -> Spec:
+    """Validate already-parsed YAML data; raise a located InputError.
+
+    The error describes the first problem in file order and carries the
+    others in ``InputError.others``.
+    """
+    lines = lines or {(): 1}
+    if not isinstance(data, dict):
+        raise InputError(f"a requirement file is a mapping with title, aircraft and requirements, "
+                         f"got {units.describe(data)}", filename, 1)
+    try:
+        model = RequirementFile.model_validate(data)
+    except ValidationError as e:
+        errs = located(e, data, lines, filename, RequirementFile)
+        if not errs:      # cannot happen with pydantic's errors, but never lose one
+            raise InputError(f"invalid requirement file: {e}", filename) from None
+        first = errs[0]
+        raise InputError(first.message, first.file, first.line, first.field, errs[1:]) from None
+    except RecursionError:
+        raise InputError("a value refers to itself (cyclic alias) or is nested too deeply", filename) from None
+    return Spec(model, data, filename, text)
+
+
+def load_text(text: str, filename: str = "<memory>") -> Spec:
+    data, lines = read_yaml(text, filename, EMPTY)
+    return validate(data, filename, lines, text)
+
+
+MAX_BYTES = 5_000_000     # a requirement file is a few kilobytes
+
+
+def load(path) -> Spec:
+    """Read and validate a requirement file; raises :class:`InputError`.
+
+    The file is only read, never written.
+    """
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+        if size > MAX_BYTES:
+            raise InputError(f"the file has {size:,} bytes; a requirement file is YAML text of a few "
+                             f"kilobytes (is this the right file?)", str(path))
+        raw = p.read_bytes()
+    except OSError as e:
+        raise InputError(f"cannot read the file: {e.strerror or e}", str(path)) from None
+    if b"\x00" in raw:
+        line = raw.count(b"\n", 0, raw.index(b"\x00")) + 1
+        raise InputError("not a text file (it contains NUL bytes); a requirement file is YAML text",
+                         str(path), line)
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as e:
+        line = raw.count(b"\n", 0, e.start) + 1
+        raise InputError(f"not UTF-8 text (byte {raw[e.start]:#04x} at offset {e.start}); a requirement "
+                         f"file is YAML text, saved as UTF-8", str(path), line) from None
+    if text.startswith("\ufeff"):      # a byte-order mark some editors write
+        text = text[1:]
+    return load_text(text, str(path))
+
+
+def json_schema() -> dict:
+    """JSON Schema (draft 2020-12) of requirement files, from the same models.
+
+    It checks what JSON Schema can express: key names, value types, the
+    kinds, models and engine types, the number-then-unit form of dimensional
+    values and the ranges of CLmax, Mach numbers and load factors. Units,
+    the other ranges and cross-field rules are checked by :func:`load` only.
+    """
+    schema = no_nulls(RequirementFile.model_json_schema())
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    schema["title"] = "sizing requirement file"
+    schema["description"] = ("Performance requirements and aircraft data for requirement-driven "
+                             "conceptual sizing (see docs/file-format.md). Dimensional values are strings "
+                             "with a unit, e.g. '35000 ft', '250 kn'.")
+    return schema
+
+
+def no_nulls(node):
+    """Drop pydantic's ``{"type": "null"}`` alternatives and null defaults: an
+    empty value is an error in a requirement file (leave the key out instead)."""
+    if isinstance(node, dict):
+        out = {}
+        for k, v in node.items():
+            if k == "default" and v is None:
+                continue
+            if k == "anyOf" and isinstance(v, list):
+                v = [a for a in v if a != {"type": "null"}]
+                if len(v) == 1 and isinstance(v[0], dict):
+                    inner = no_nulls(v[0])
+                    out.update({kk: vv for kk, vv in inner.items() if kk not in out})
+                    continue
+            out[k] = no_nulls(v)
+        return out
+    if isinstance(node, list):
+        return [no_nulls(v) for v in node]
+    return node

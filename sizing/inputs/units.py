@@ -1,0 +1,242 @@
+"""Strings with a unit: ``"35000 ft"`` -> an SI float that remembers the user's unit.
+
+Every dimensional value in a requirement file is a string such as
+``"35000 ft"`` or ``"250 kn"``. :func:`parse` turns it into an SI float and
+remembers the user's unit, so reports and sensitivities can speak the
+user's language. A bare number where a dimension is expected is an error
+that says which units fit.
+"""
+from __future__ import annotations
+
+import difflib
+import math
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+
+G0 = 9.80665  # standard gravity [m/s^2], converts mass-based to weight-based units
+
+
+@lru_cache(maxsize=1)
+def registry():
+    import pint
+
+    # pint's own on-disk cache of its parsed definitions makes a cold start
+    # ~0.3 s faster; any trouble with it (read-only home, a half-written file
+    # from a parallel process) falls back to parsing the definitions
+    try:
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
+        ureg.parse_units("ft/min")
+    except Exception:  # noqa: BLE001 - the cache is an optimisation only
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    for name in ("kn", "KTAS"):     # knots of true airspeed, in case this pint lacks them
+        if name not in ureg:
+            ureg.define(f"{name} = knot")
+    return ureg
+
+
+@dataclass(frozen=True)
+class Dimension:
+    """A kind of quantity a field takes: pint dimensionalities that fit, SI unit."""
+
+    name: str
+    si_unit: str
+    examples: str
+    accepts: tuple  # tuples of (dimensionality string, factor to SI after to_base_units)
+
+
+DIMENSIONS = {
+    "length": Dimension("length", "m", "'35000 ft', '1.2 km', '800 m'", (("[length]", 1.0),)),
+    "speed": Dimension("speed", "m/s", "'250 kn', '120 m/s', '100 ft/min'", (("[length] / [time]", 1.0),)),
+    "mass": Dimension("mass", "kg", "'200 kg', '450 lb'", (("[mass]", 1.0),)),
+    "time": Dimension("time", "s", "'30 min', '2 h', '3 s'", (("[time]", 1.0),)),
+    "temperature_difference": Dimension("temperature difference", "K", "'15 K', '-10 K'",
+                                        (("[temperature]", 1.0),)),
+    # wing loading: a pressure, or a mass per area (times g0)
+    "wing_loading": Dimension("wing loading", "N/m^2", "'4000 Pa', '400 kg/m^2', '80 lbf/ft^2'",
+                              (("[mass] / [length] / [time] ** 2", 1.0), ("[mass] / [length] ** 2", G0))),
+    "areal_mass": Dimension("mass per wing area", "kg/m^2", "'45 kg/m^2', '9 lb/ft^2'",
+                            (("[mass] / [length] ** 2", 1.0),)),
+    "mass_per_thrust": Dimension("mass per sea-level thrust", "kg/N", "'0.025 kg/N'",
+                                 (("[time] ** 2 / [length]", 1.0),)),
+    "mass_per_power": Dimension("mass per sea-level power", "kg/W", "'0.9 kg/kW', '1.5 lb/hp'",
+                                (("[time] ** 3 / [length] ** 2", 1.0),)),
+    "power_to_weight": Dimension("power-to-weight", "W/N", "'0 W/N', '150 W/N', '0.1 hp/lbf'",
+                                 (("[length] / [time]", 1.0),)),
+    # thrust-specific fuel consumption, weight-based [1/s]; mass-based times g0
+    "tsfc": Dimension("thrust-specific fuel consumption", "1/s", "'0.9 1/h', '22 mg/(N*s)'",
+                      (("1 / [time]", 1.0), ("[time] / [length]", G0))),
+    # power-specific fuel consumption, weight-based [N/J = 1/m]; mass-based times g0
+    "psfc": Dimension("power-specific fuel consumption", "1/m", "'0.45 lb/(hp*h)', '80 ug/J'",
+                      (("1 / [length]", 1.0), ("[time] ** 2 / [length] ** 2", G0))),
+}
+
+
+class UnitError(ValueError):
+    """A value's unit is missing, unknown or of the wrong kind."""
+
+
+@dataclass(frozen=True)
+class Quantity:
+    """A parsed value: SI magnitude, the user's text and unit."""
+
+    si: float
+    text: str
+    unit: str          # the user's unit as written ("kn", "ft", ...)
+    scale: float       # SI per one user unit
+
+    def __float__(self) -> float:
+        return self.si
+
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+# unit names a requirement file usually uses, for "did you mean" hints
+COMMON_UNITS = ("m", "km", "ft", "nmi", "mi", "in", "cm", "kn", "kt", "m/s", "km/h", "ft/s", "ft/min",
+                "mph", "kg", "lb", "t", "g", "mg", "s", "min", "h", "K", "delta_degC", "delta_degF",
+                "N", "kN", "lbf", "Pa", "kPa", "W", "kW", "hp", "J", "kg/m^2", "lb/ft^2", "lbf/ft^2",
+                "kg/N", "kg/kW", "lb/hp", "1/h", "1/s", "lb/(lbf*h)", "mg/(N*s)", "lb/(hp*h)", "W/N",
+                "meter", "foot", "knot", "kilogram", "pound", "second", "minute", "hour", "kelvin",
+                "newton", "pascal", "watt", "kilowatt", "horsepower")
+
+
+def parse(value, dimension: str) -> Quantity:
+    """Parse ``"<number> <unit>"`` into SI for a field of a given dimension.
+
+    The number comes first and the unit after it (``"35000 ft"``,
+    ``"0.9 1/h"``); a unit alone, a bare number, an unknown unit or a unit of
+    another kind is a :class:`UnitError` whose message lists units that fit.
+    For a temperature difference, ``degC`` and ``degF`` are read as
+    differences (``"15 degC"`` is 15 K).
+
+    Examples
+    --------
+    Source: REFERENCES.md §9 exact conversions (1 ft = 0.3048 m).
+
+    >>> round(parse("1000 ft", "length").si, 9)
+    304.8
+    >>> parse("95 kn", "speed").unit
+    'kn'
+    """
+    dim = DIMENSIONS[dimension]
+    if isinstance(value, bool):
+        raise UnitError(f"{value!r} is not a {dim.name}; write a number with a unit, e.g. {dim.examples}")
+    if isinstance(value, (int, float)):
+        if dimension == "temperature_difference" and value == 0:
+            return Quantity(0.0, str(value), "K", 1.0)
+        raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
+    if not isinstance(value, str):
+        raise UnitError(f"expected a {dim.name} written as a number with a unit, e.g. {dim.examples}, "
+                        f"got {describe(value)}")
+    text = value.strip()
+    match = _NUMBER.match(text)
+    if match is None:
+        raise UnitError(f"{value!r} does not start with a number; a {dim.name} is written as a number "
+                        f"and a unit, e.g. {dim.examples}")
+    number, unit_text = match.group(1), match.group(2)
+    # integers stay integers, as pint itself would read them (exact products)
+    mag_user = int(number) if number.lstrip("+-").isdigit() else float(number)
+    if not math.isfinite(mag_user):
+        raise UnitError(f"{value!r} is not a finite number")
+    if not unit_text:
+        raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
+    ureg = registry()
+    try:
+        u = ureg.parse_units(unit_text)
+    except Exception as e:  # noqa: BLE001 - pint raises several unrelated types
+        names = [n for n in getattr(e, "unit_names", ()) or () if isinstance(n, str)]
+        if names:
+            near = difflib.get_close_matches(names[0], COMMON_UNITS, 1, 0.6)
+            hint = f" (did you mean {near[0]!r}?)" if near else ""
+            raise UnitError(f"unknown unit {names[0]!r} in {value!r}{hint}; a {dim.name} is written "
+                            f"like {dim.examples}") from None
+        raise UnitError(f"cannot read the unit {unit_text!r} of {value!r}; a {dim.name} is written "
+                        f"like {dim.examples}") from None
+    if dimension == "temperature_difference":
+        u = _as_difference(ureg, u)
+    try:
+        q = ureg.Quantity(mag_user, u)
+        base = q.to_base_units()
+        one = float(ureg.Quantity(1.0, u).to_base_units().magnitude)
+    except Exception as e:  # noqa: BLE001 - offset units in products and the like
+        raise UnitError(f"cannot use the unit {unit_text!r} of {value!r} here ({e}); write it like "
+                        f"{dim.examples}") from None
+    if base.dimensionless:
+        raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
+    for dims, factor in dim.accepts:
+        if base.dimensionality == ureg.get_dimensionality(dims):
+            mag = float(base.magnitude) * factor
+            if not math.isfinite(mag):
+                raise UnitError(f"{value!r} is not a finite number")
+            return Quantity(mag, text, unit_text, one * factor)
+    raise UnitError(f"{value!r} is {_dimension_words(base.dimensionality)}, not a {dim.name}; "
+                    f"write it like {dim.examples}")
+
+
+def _as_difference(ureg, u):
+    """degC/degF (offset units) -> their differences; other units unchanged."""
+    mapping = {"degree_Celsius": "delta_degree_Celsius", "degree_Fahrenheit": "delta_degree_Fahrenheit"}
+    name = str(u)
+    if name in mapping:
+        return ureg.parse_units(mapping[name])
+    return u
+
+
+_WORDS = {"[length]": "length", "[mass]": "mass", "[time]": "time", "[temperature]": "temperature",
+          "[length] / [time]": "speed", "[mass] / [length] / [time] ** 2": "pressure",
+          "[mass] * [length] / [time] ** 2": "force", "[mass] / [length] ** 2": "mass per area",
+          "[length] ** 2": "area", "[length] ** 3": "volume", "[mass] * [length] ** 2 / [time] ** 3": "power",
+          "1 / [time]": "frequency (1/time)", "[length] / [time] ** 2": "acceleration"}
+
+
+def _dimension_words(dimensionality) -> str:
+    text = str(dimensionality)
+    word = _WORDS.get(text)
+    if word is None:
+        return f"of dimension {text}"
+    return f"{'an' if word[0] in 'aeiou' else 'a'} {word} ({text})"
+
+
+def describe(value) -> str:
+    """'a mapping', 'a list', 'nothing (an empty value)' or the value's type name."""
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    if value is None:
+        return "nothing (an empty value)"
+    return type(value).__name__
+
+
+def parse_fraction(value) -> float:
+    """A dimensionless fraction: a number, or a string with ``%``.
+
+    >>> parse_fraction("6 %")
+    0.06
+    """
+    if isinstance(value, bool):
+        raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage such as '6 %'")
+    out = None
+    if isinstance(value, (int, float)):
+        out = float(value)
+    elif isinstance(value, str):
+        text = value.strip()
+        try:
+            out = float(text[:-1].strip()) / 100.0 if text.endswith("%") else float(text)
+        except ValueError:
+            out = None
+    if out is None:
+        raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage "
+                        f"such as '6 %'")
+    if not math.isfinite(out):
+        raise UnitError(f"{value!r} is not a finite number")
+    return out
+
+
+def is_dimension(q: Quantity, dim: str) -> bool:
+    """Whether a parsed quantity's text reads as the given dimension."""
+    try:
+        parse(q.text, dim)
+        return True
+    except UnitError:
+        return False

@@ -1,0 +1,9 @@
+"""Physics: pure SI functions of floats, numpy arrays and CasADi symbols.
+
+Lives here: ``atmosphere`` (U.S. Standard Atmosphere 1976), ``aero`` (drag
+polar, Mach tables, lift limits), ``propulsion`` (thrust and power lapse per
+engine family) and ``shim`` (the one-expression math shim that dispatches to
+numpy or CasADi). No units, no I/O, no printing.
+May import: numpy, and CasADi through ``shim`` only; nothing else of ``sizing``
+but ``sizing.common``.
+"""

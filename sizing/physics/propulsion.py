@@ -1,0 +1,193 @@
+"""Installed full-throttle thrust lapse and power lapse per engine family.
+
+alpha = T / T_SL (jets) or P / P_SL (propeller engines) as a function of the
+flight condition. The jet correlations are Mattingly's, written in the
+dimensionless total (stagnation) conditions
+
+    theta0 = (T/T_std) (1 + (gamma-1)/2 M^2)
+    delta0 = (p/p_std) (1 + (gamma-1)/2 M^2)^(gamma/(gamma-1))
+
+and the throttle ratio TR (theta0 at the engine's control break). The branch
+at theta0 = TR uses ``if_else``, so the lapse is CasADi-safe with Mach a free
+variable; both branches agree at the break.
+
+References
+----------
+.. [1] Mattingly, J. D., Heiser, W. H., Pratt, D. T., *Aircraft Engine
+   Design*, 2nd ed., AIAA Education Series, 2002, §2.3.2, Eqs. 2.52-2.56.
+.. [2] Gagg, R. F., Ferrar, E. V., "Effect of altitude on engine
+   performance", 1934 (as used by Gudmundsson, *General Aviation Aircraft
+   Design*, 2014, Ch. 7).
+.. [3] Anderson, J. D., *Aircraft Performance and Design*, McGraw-Hill,
+   1999, Eq. 3.36 (turboprop power, P/P_0 = (rho/rho_0)^0.7).
+"""
+from __future__ import annotations
+
+from . import shim as m
+from .atmosphere import GAMMA, isa
+
+ENGINE_TYPES = ("turbojet", "turbofan-low-bypass", "turbofan-high-bypass", "turboprop", "piston")
+PROPELLER_TYPES = ("turboprop", "piston")
+
+
+def inlet_conditions(theta, delta, M):
+    """Dimensionless total temperature and pressure (Mattingly Eq. 2.52).
+
+    Returns
+    -------
+    (theta0, delta0) [-]
+
+    Examples
+    --------
+    Source: Mattingly AAF example (REFERENCES.md §3.4): supercruise M1.5 at
+    30 kft, theta 0.7940, delta 0.2975 -> theta0 1.1513, delta0 1.0921.
+
+    >>> t0, d0 = inlet_conditions(0.7940, 0.2975, 1.5)
+    >>> round(float(t0), 4), round(float(d0), 4)
+    (1.1513, 1.0921)
+    """
+    ram = 1.0 + 0.5 * (GAMMA - 1.0) * M ** 2
+    return theta * ram, delta * m.power(ram, GAMMA / (GAMMA - 1.0))
+
+
+def lapse_high_bypass(theta0, delta0, M, TR):
+    """High-bypass turbofan, maximum power (Mattingly Eq. 2.53), M < 0.9.
+
+    alpha = delta0 (1 - 0.49 sqrt(M))                         theta0 <= TR
+    alpha = delta0 (1 - 0.49 sqrt(M) - 3 (theta0 - TR)/(1.5 + M))  otherwise
+    """
+    base = 1.0 - 0.49 * m.sqrt(M)
+    return delta0 * m.if_else(theta0 <= TR, base, base - 3.0 * (theta0 - TR) / (1.5 + M))
+
+
+def lapse_low_bypass(theta0, delta0, M, TR, afterburner=False):
+    """Low-bypass mixed-flow turbofan (Mattingly Eqs. 2.54a maximum, 2.54b military).
+
+    maximum:  alpha = delta0 [1 - 3.5 (theta0 - TR)/theta0 if theta0 > TR]
+    military: alpha = 0.6 delta0 [1 - 3.8 (theta0 - TR)/theta0 if theta0 > TR]
+
+    Examples
+    --------
+    Source: Mattingly AAF warm-up (REFERENCES.md CC6): military power,
+    theta0 1.0796, delta0 0.9298, M 0, TR 1.07 -> alpha = 0.5390.
+
+    >>> round(float(lapse_low_bypass(1.0796, 0.9298, 0.0, 1.07)), 4)
+    0.539
+    """
+    scale, c = (1.0, 3.5) if afterburner else (0.6, 3.8)
+    return scale * delta0 * m.if_else(theta0 <= TR, 1.0 + 0.0 * theta0, 1.0 - c * (theta0 - TR) / theta0)
+
+
+def lapse_turbojet(theta0, delta0, M, TR, afterburner=False):
+    """Turbojet (Mattingly Eqs. 2.55a maximum, 2.55b military).
+
+    maximum:  delta0 [1 - 0.3 (theta0 - 1) - 0.1 sqrt(M) - 1.5 (theta0 - TR)/theta0 if theta0 > TR]
+    military: 0.8 delta0 [1 - 0.16 sqrt(M) - 24 (theta0 - TR)/((9 + M) theta0) if theta0 > TR]
+    """
+    if afterburner:
+        base = 1.0 - 0.3 * (theta0 - 1.0) - 0.1 * m.sqrt(M)
+        return delta0 * m.if_else(theta0 <= TR, base, base - 1.5 * (theta0 - TR) / theta0)
+    base = 1.0 - 0.16 * m.sqrt(M)
+    return 0.8 * delta0 * m.if_else(theta0 <= TR, base, base - 24.0 * (theta0 - TR) / ((9.0 + M) * theta0))
+
+
+def thrust_lapse_turboprop(theta0, delta0, M, TR):
+    """Turboprop installed *thrust* lapse (Mattingly Eq. 2.56), for reference.
+
+    alpha = delta0                                      M <= 0.1
+    alpha = delta0 [1 - 0.96 (M - 0.1)^(1/4)]           theta0 <= TR
+    alpha = delta0 [1 - 0.96 (M - 0.1)^(1/4) - 3 (theta0 - TR)/(8.13 (M - 0.1))]
+
+    Notes
+    -----
+    This is T/T_SL of engine plus propeller; the sizing model of propeller
+    aircraft works in power (T = eta_p P / V) and uses
+    :func:`power_lapse_turboprop` instead. The hot-day term is singular at
+    M = 0.1, so it is applied only above M = 0.1.
+    """
+    dM = m.fmax(M - 0.1, 1e-9)
+    base = 1.0 - 0.96 * m.power(dM, 0.25)
+    hot = base - 3.0 * (theta0 - TR) / (8.13 * dM)
+    return delta0 * m.if_else(M <= 0.1, 1.0 + 0.0 * M, m.if_else(theta0 <= TR, base, hot))
+
+
+def power_lapse_piston(sigma):
+    """Normally aspirated piston engine (Gagg and Ferrar).
+
+    P/P_SL = sigma - (1 - sigma)/7.55
+
+    Examples
+    --------
+    Source: REFERENCES.md §5.1 (Gudmundsson Ch. 7 form), geopotential
+    10 000 ft, sigma = 0.73848 -> 0.70384.
+
+    >>> round(float(power_lapse_piston(0.73848)), 5)
+    0.70384
+    """
+    return sigma - (1.0 - sigma) / 7.55
+
+
+def power_lapse_turboprop(sigma):
+    """Turboprop shaft power lapse, P/P_SL = sigma^0.7 (Anderson Eq. 3.36).
+
+    Notes
+    -----
+    Anderson correlates a typical turboprop's power available with density
+    ratio, exponent n = 0.7, and takes it as independent of Mach.
+    """
+    return m.power(sigma, 0.7)
+
+
+def thrust_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
+                 throttle_ratio=1.0, afterburner=False):
+    """Full-throttle lapse of the installed engine at a flight condition.
+
+    Parameters
+    ----------
+    engine_type : str
+        One of ``turbojet``, ``turbofan-low-bypass``, ``turbofan-high-bypass``
+        (thrust lapse T/T_SL) or ``turboprop``, ``piston`` (power lapse
+        P/P_SL).
+    altitude_m : float, array or symbol
+        Pressure altitude [m].
+    mach : float, array or symbol
+        Flight Mach number [-].
+    temperature_offset_K : float
+        ISA temperature offset [K].
+    throttle_ratio : float
+        TR = theta0 at the control break [-] (jets only).
+    afterburner : bool
+        Maximum (afterburning) rating instead of military (turbojet and
+        low-bypass turbofan only).
+
+    Returns
+    -------
+    alpha [-]
+
+    Examples
+    --------
+    Source: REFERENCES.md §8 (Mattingly Eq. 2.53 computed by geometric
+    altitude); hand calculation here by geopotential altitude: sea-level
+    static is 1 for every jet family.
+
+    >>> float(thrust_lapse("turbofan-high-bypass", 0.0, 0.0))
+    1.0
+    """
+    air = isa(altitude_m, temperature_offset_K)
+    if engine_type == "piston":
+        return power_lapse_piston(air.sigma) + 0.0 * mach
+    if engine_type == "turboprop":
+        return power_lapse_turboprop(air.sigma) + 0.0 * mach
+    theta0, delta0 = inlet_conditions(air.theta, air.delta, mach)
+    if engine_type == "turbofan-high-bypass":
+        return lapse_high_bypass(theta0, delta0, mach, throttle_ratio)
+    if engine_type == "turbofan-low-bypass":
+        return lapse_low_bypass(theta0, delta0, mach, throttle_ratio, afterburner)
+    if engine_type == "turbojet":
+        return lapse_turbojet(theta0, delta0, mach, throttle_ratio, afterburner)
+    raise ValueError(f"unknown engine type {engine_type!r}; valid: {', '.join(ENGINE_TYPES)}")
+
+
+def is_propeller(engine_type) -> bool:
+    """True for engine families sized by power (turboprop, piston)."""
+    return engine_type in PROPELLER_TYPES

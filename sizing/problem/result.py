@@ -1,0 +1,91 @@
+"""Result types of a sizing solve (frozen): the design, each requirement's outcome, the infeasibility.
+
+Low in the layers so reports and charts need no solver. ``Result.diagram()``
+imports :mod:`sizing.charts` lazily (a convenience method; listed in the
+layering test).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class RequirementResult:
+    id: str
+    kind: str
+    active: bool
+    margin: float                 # fractional excess, 0 when active
+    sensitivity: float | None     # d m_TO / d value [kg per user unit]
+    sensitivity_unit: str
+    value_text: str               # the requirement's value as written
+    detail: str                   # the margin in the requirement's own terms
+    speed: float | None = None    # free speed chosen by the optimizer [m/s]
+    beta: float = 1.0
+    beta_source: str = "default 1.0"
+
+
+@dataclass(frozen=True)
+class Design:
+    wing_loading: float          # W_TO/S [N/m^2]
+    thrust_to_weight: float | None
+    power_to_weight: float | None  # P_SL/W_TO [W/N]
+    takeoff_mass: float          # [kg]
+    wing_area: float             # [m^2]
+    empty_mass: float            # [kg]
+    fuel_mass: float             # [kg]
+    thrust: float | None         # sea-level static thrust [N]
+    power: float | None          # sea-level power [W]
+    crew_mass: float = 0.0
+    payload_mass: float = 0.0
+
+
+@dataclass(frozen=True)
+class Infeasibility:
+    conflicts: tuple
+    relaxations: dict            # id -> {value, unit, text, field, from, shown, si, together}
+    explanation: str = ""
+
+
+@dataclass(frozen=True)
+class Result:
+    """Frozen outcome of one sizing solve."""
+
+    title: str
+    status: str                           # "optimal" | "infeasible"
+    propeller: bool
+    design: Design | None
+    requirements: tuple = ()
+    drivers: tuple = ()
+    infeasibility: Infeasibility | None = None
+    on_edge: tuple = ()                   # design-space edges the optimum touches
+    fuel_breakdown: tuple = ()            # (segment name, weight fraction, fuel kg)
+    other_costs: tuple = ()               # (what, kg per unit, unit): payload growth, mission legs
+    objective: str = "takeoff-mass"
+    stats: dict = field(default_factory=dict)
+    spec: object = None
+
+    @property
+    def feasible(self) -> bool:
+        return self.status == "optimal"
+
+    def requirement(self, rid):
+        for r in self.requirements:
+            if r.id == rid:
+                return r
+        raise KeyError(rid)
+
+    def to_frame(self):
+        """Requirements as a pandas DataFrame (id, kind, active, margin, ...)."""
+        import pandas as pd
+
+        return pd.DataFrame([{
+            "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
+            "sensitivity": r.sensitivity, "sensitivity_unit": r.sensitivity_unit,
+            "value": r.value_text, "detail": r.detail, "weight_fraction": r.beta,
+        } for r in self.requirements])
+
+    def diagram(self, ax=None, **kwargs):
+        """Constraint diagram of this design (see :func:`sizing.charts.diagram.constraint_diagram`)."""
+        from ..charts.diagram import constraint_diagram
+
+        return constraint_diagram(self.spec, result=self, ax=ax, **kwargs)

@@ -1,0 +1,71 @@
+"""The starting point of a solve: the best point of a coarse numpy scan over wing loading.
+
+The spreadsheet way: the required T/W (P/W) of every requirement over a
+geometric grid of W/S (free speeds minimised by :func:`sizing.constraints.required_curve`),
+the W/S limits, and the weight closed by fixed-point iteration at each grid point.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from .. import constraints as C
+from .. import weights as Wt
+from . import tree as M
+
+
+def scan(prob, p, n=48):
+    """(x0, found): the lightest closed design of an n-point W/S scan as a scaled decision
+    vector clipped to the bounds, and whether any scanned point met every requirement and
+    closed (else x0 is the point needing the least thrust)."""
+    """Best point of a coarse numpy scan over W/S (the spreadsheet way)."""
+    tree = prob.tree_of(p)
+    ac = M.aircraft(tree)
+    W = np.geomspace(prob.WS_bounds[0], prob.WS_bounds[1], n)
+    Y_need = np.zeros_like(W)
+    ok = np.ones_like(W, dtype=bool)
+    speeds = {}
+    ws_lim = np.full_like(W, np.inf)
+    try:
+        seg_end = Wt.segment_end_fractions(tree, ac, W)
+    except Exception:  # noqa: BLE001 - a guess only
+        seg_end = {}
+    for rid in prob.req_ids:
+        r = tree["requirements"][rid]
+        wf = r.get("weight_fraction")
+        beta = seg_end.get(wf["after"], 1.0) if isinstance(wf, dict) else None
+        req = M.requirement(r, ac, beta)
+        with np.errstate(all="ignore"):
+            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60)
+        if thrust is not None:
+            Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
+        if lim is not None:
+            ws_lim = np.minimum(ws_lim, lim)
+        if Vb is not None:
+            speeds[rid] = Vb
+    ok &= W <= ws_lim
+    Y_need = np.maximum(Y_need, prob.Y_bounds[0])
+    ok &= Y_need <= prob.Y_bounds[1]
+    with np.errstate(all="ignore"):
+        f_fuel = Wt.fuel_fraction(tree, ac, W)
+        fixed = prob.fixed_mass(tree)
+        mass = np.full_like(W, 3.0 * fixed)
+        closes = np.ones_like(W, dtype=bool)
+        for _ in range(30):
+            f_e = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], mass, W, Y_need, prob.propeller)
+            closes = 1 - f_fuel - f_e > 0.01
+            mass = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
+            mass = np.clip(mass, fixed, 1000 * fixed)     # a finite start for the next step
+        closes &= mass < 1000 * fixed                      # inside the search region
+    score = np.where(ok & closes & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
+    found = bool(np.any(np.isfinite(score)))
+    if not np.any(np.isfinite(score)):
+        i = int(np.argmin(np.where(np.isfinite(Y_need), Y_need, np.inf)))
+    else:
+        i = int(np.argmin(score))
+    x0 = [W[i] / prob.WS_scale,
+          min(max(Y_need[i] if np.isfinite(Y_need[i]) else 0.5 * prob.Y_bounds[1], prob.Y_bounds[0]), prob.Y_bounds[1]) / prob.Y_scale,
+          (mass[i] if np.isfinite(mass[i]) else 3.0 * fixed) / prob.m_ref]
+    for rid in prob.free:
+        v = speeds.get(rid, np.full_like(W, 100.0))[i]
+        x0.append((v if np.isfinite(v) else 100.0) / prob.V_scale)
+    return np.clip(np.array(x0, dtype=float), prob.lbx, prob.ubx), found

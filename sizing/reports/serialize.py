@@ -1,0 +1,61 @@
+"""The ``sizing solve --json`` object: every number labelled by its key, SI units in the key names."""
+from __future__ import annotations
+
+import json
+import math
+
+from ..common.caution import CAUTION
+
+
+def as_dict(result) -> dict:
+    """The result as one JSON-ready dict (keys documented in docs/file-format.md, output section)."""
+    out = {"title": result.title, "status": result.status, "design": None, "drivers": list(result.drivers),
+           "requirements": [], "infeasibility": None, "caution": CAUTION}
+    d = result.design
+    if d is not None:
+        des = {"wing_loading_Pa": d.wing_loading}
+        if result.propeller:
+            des["power_to_weight_W_per_N"] = d.power_to_weight
+        else:
+            des["thrust_to_weight"] = d.thrust_to_weight
+        des.update({"takeoff_mass_kg": d.takeoff_mass, "wing_area_m2": d.wing_area,
+                    "empty_mass_kg": d.empty_mass, "fuel_mass_kg": d.fuel_mass})
+        if result.propeller:
+            des["power_W"] = d.power
+        else:
+            des["thrust_N"] = d.thrust
+        out["design"] = des
+        out["requirements"] = [{
+            "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
+            "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
+        } for r in result.requirements]
+    if d is None:
+        # infeasible: every requirement listed, none active, no margin or cost (there is no design)
+        reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
+        out["drivers"] = []
+        out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
+                                "sensitivity": None} for r in reqs]
+    if result.infeasibility is not None:
+        inf = result.infeasibility
+        rel = inf.relaxations
+        out["infeasibility"] = {"conflicts": list(inf.conflicts),
+                                "relaxations": {k: v["value"] for k, v in rel.items()},
+                                "relaxation_units": {k: v["unit"] for k, v in rel.items()},
+                                "relaxation_text": {k: v.get("text", "") for k, v in rel.items()},
+                                "together": any(v.get("together", False) for v in rel.values()),
+                                "explanation": inf.explanation}
+    return out
+
+
+def _finite(o):
+    if isinstance(o, float):
+        return o if math.isfinite(o) else None
+    if isinstance(o, dict):
+        return {k: _finite(v) for k, v in o.items()}
+    if isinstance(o, (list, tuple)):
+        return [_finite(v) for v in o]
+    return o
+
+
+def to_json(result) -> str:
+    return json.dumps(_finite(as_dict(result)), indent=2, allow_nan=False)

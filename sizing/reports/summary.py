@@ -1,0 +1,128 @@
+"""The terminal summary of a sizing result (no physics here), and the texts other outputs share:
+what a step of a requirement costs, what a relaxation says."""
+from __future__ import annotations
+
+import math
+
+from ..common.caution import CAUTION
+from ..common.conversions import HP, LB, LBF_FT2, N_PER_LBF
+from ..physics.atmosphere import g0
+
+
+def step_for(unit: str, value: float):
+    """A readable step for 'what one more costs' lines, in the user's unit."""
+    if unit == "Mach":
+        return 0.01
+    if unit in ("g", "%"):
+        return 1.0 if unit == "g" else 0.1
+    mag = abs(value)
+    if mag >= 100:
+        return 10 ** (math.floor(math.log10(mag)) - 1)
+    return 1.0
+
+
+def cost_step(r):
+    """(step text, kg) for one step of a requirement's value in the harder direction."""
+    if r.sensitivity is None or not math.isfinite(r.sensitivity):
+        return None
+    unit = r.sensitivity_unit.replace("kg per ", "")
+    try:
+        val = float(r.value_text.split()[0]) if r.value_text else 1.0
+    except ValueError:
+        val = 1.0
+    step = step_for(unit, val)
+    dm = r.sensitivity * step
+    if dm < 0:
+        step, dm = -step, -dm
+    sign = "+" if step > 0 else "-"
+    unit_txt = f" {unit}" if unit != "unit" else ""
+    return f"{sign}{abs(step):g}{unit_txt}", dm
+
+
+def cost_line(r) -> str:
+    """'+1 g on turn-4g: +820.1 kg' from a requirement's sensitivity."""
+    c = cost_step(r)
+    if c is None:
+        return f"{r.id}: cost not available"
+    return f"{c[0]} on {r.id}: +{c[1]:,.1f} kg"
+
+
+def relaxation_heading(inf) -> str:
+    """What the list of relaxations means: each alone, or all together."""
+    if any(rel.get("together") for rel in inf.relaxations.values()):
+        return "conflicting requirements; these changes together restore feasibility:"
+    return "conflicting requirements, and the smallest change of each that alone restores feasibility:"
+
+
+def relaxation_text(rid, rel) -> str:
+    """'stall: speed 40 kn -> 66.9 kn' for one relaxation."""
+    was = f"{rel['from']} -> " if rel.get("from") else "-> "
+    return f"{rid}: {rel.get('field', 'value')} {was}{rel.get('text', '?')}"
+
+
+def summary(result, path: str = "") -> str:
+    """The readable terminal summary of a result."""
+    lines = [result.title, "=" * len(result.title)]
+    if path:
+        lines.append(f"file: {path}")
+    if result.status != "optimal":
+        lines.append("")
+        lines.append("NO FEASIBLE DESIGN: no aircraft meets every requirement and closes its weight.")
+        inf = result.infeasibility
+        if inf is not None:
+            if inf.explanation:
+                lines.append(f"  {inf.explanation}")
+            if inf.conflicts:
+                lines.append("  " + relaxation_heading(inf))
+                for rid in inf.conflicts:
+                    lines.append("    " + relaxation_text(rid, inf.relaxations[rid]))
+        lines += ["", CAUTION]
+        return "\n".join(lines)
+    d = result.design
+    W = d.wing_loading
+    lines += ["", "Design point"]
+    lines.append(f"  wing loading       {W:,.0f} N/m^2  ({W / g0:,.1f} kg/m^2, {W / LBF_FT2:,.2f} lb/ft^2)")
+    if result.propeller:
+        P = d.power_to_weight
+        lines.append(f"  power-to-weight    {P:,.2f} W/N  ({P * g0 / 1000:,.4f} kW/kg, "
+                     f"{P * N_PER_LBF / HP:,.4f} hp/lb)")
+        lines.append(f"  sea-level power    {d.power / 1000:,.1f} kW  ({d.power / HP:,.0f} hp)")
+    else:
+        lines.append(f"  thrust-to-weight   {d.thrust_to_weight:,.4f}")
+        lines.append(f"  sea-level thrust   {d.thrust / 1000:,.2f} kN  ({d.thrust / N_PER_LBF:,.0f} lbf)")
+    lines.append(f"  takeoff mass       {d.takeoff_mass:,.0f} kg  ({d.takeoff_mass / LB:,.0f} lb)")
+    lines.append(f"  wing area          {d.wing_area:,.2f} m^2  ({d.wing_area / 0.09290304:,.1f} ft^2)")
+    lines.append(f"  empty mass         {d.empty_mass:,.0f} kg  ({d.empty_mass / d.takeoff_mass:.3f} of takeoff)")
+    lines.append(f"  fuel mass          {d.fuel_mass:,.0f} kg  ({d.fuel_mass / d.takeoff_mass:.3f} of takeoff)")
+    lines.append(f"  crew + payload     {d.crew_mass + d.payload_mass:,.0f} kg")
+    if result.on_edge:
+        lines.append(f"  NOTE: the optimum lies on the edge of the search region ({', '.join(result.on_edge)})")
+    if result.fuel_breakdown:
+        lines += ["", "Mission fuel by segment"]
+        for name, f, mf in result.fuel_breakdown:
+            lines.append(f"  {name:<28} W1/W0 {f:.4f}   {mf:,.0f} kg")
+        extra = d.fuel_mass - sum(mf for _, _, mf in result.fuel_breakdown)
+        if extra > 0.5:
+            lines.append(f"  {'reserve and trapped fuel':<28} {'':12}   {extra:,.0f} kg")
+        lines.append(f"  {'total':<28} {'':12}   {d.fuel_mass:,.0f} kg")
+    lines += ["", "Drivers (active requirements) and what each costs"]
+    active = [r for r in result.requirements if r.active]
+    if not active:
+        lines.append("  none: the design sits where the weight model alone puts it")
+    for r in active:
+        lines.append(f"  {r.id:<18} {r.kind:<20} {cost_line(r)}")
+    if "mission fuel" in result.drivers:
+        lines.append("  mission fuel       (the cruise L/D trade sets the wing loading)")
+    if result.other_costs:
+        lines += ["", "Other costs"]
+        for what, per, unit in result.other_costs:
+            lines.append(f"  {what:<38} {per:+,.2f} {unit}")
+    lines += ["", "Margins"]
+    for r in result.requirements:
+        tag = "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %"
+        beta = f"   [weight fraction {r.beta:.3f}, {r.beta_source}]"
+        lines.append(f"  {r.id:<18} {tag:>10}   {r.detail}{beta}")
+    st = result.stats
+    lines += ["", f"solver: {st.get('return_status')}, {st.get('iterations')} iterations, "
+                  f"{st.get('solve_time_s', 0) * 1000:.0f} ms", "", CAUTION]
+    return "\n".join(lines)

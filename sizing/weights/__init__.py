@@ -1,0 +1,24 @@
+"""Weights: empty-mass models, mission fuel and the weight closure.
+
+Lives here: ``empty`` (components, fixed fraction, Raymer's statistical
+regressions), ``mission`` (segment weight fractions by the Breguet range and
+endurance equations, the fuel fraction) and ``closure`` (the takeoff mass
+that closes the weights). Functions evaluate on floats, arrays and CasADi
+symbols.
+May import: ``sizing.physics`` and ``sizing.common`` only.
+"""
+from .closure import closure_mass
+from .empty import STATISTICAL_PRESETS, empty_fraction, empty_fraction_power_law, empty_fraction_refined
+from .mission import (
+                      breguet_cruise_fraction,
+                      breguet_loiter_fraction,
+                      fuel_fraction,
+                      fuel_fraction_from_segments,
+                      has_mission_fuel,
+                      mission_fractions,
+                      segment_end_fractions,
+)
+
+__all__ = ["STATISTICAL_PRESETS", "breguet_cruise_fraction", "breguet_loiter_fraction", "closure_mass",
+           "empty_fraction", "empty_fraction_power_law", "empty_fraction_refined", "fuel_fraction",
+           "fuel_fraction_from_segments", "has_mission_fuel", "mission_fractions", "segment_end_fractions"]
