@@ -8,7 +8,7 @@ from sizing.physics.aero import (DragPolar, MachTable, induced_drag_factor, max_
 
 
 def test_max_lift_to_drag_anderson_examples():
-    # Source: Anderson, Introduction to Flight, Ch. 6 running examples (REFERENCES.md CC5):
+    # Source: Anderson, Introduction to Flight, Ch. 6 running examples (docs/references.md check 3.3-c):
     # piston A 7.3657, CD0 0.025, e 0.8 -> 13.606 (book 13.6); jet A 8.9336, CD0 0.02, e 0.81 -> 16.857.
     assert float(max_lift_to_drag(0.025, induced_drag_factor(7.3657, 0.8))) == pytest.approx(13.6059, rel=1e-4)
     assert float(max_lift_to_drag(0.02, induced_drag_factor(8.9336, 0.81))) == pytest.approx(16.8572, rel=1e-4)
@@ -20,12 +20,12 @@ def test_max_lift_to_drag_is_the_polar_maximum():
     polar = DragPolar(cd0=0.025, k1=induced_drag_factor(8, 0.8))
     CL = np.linspace(0.05, 2.0, 200001)
     LD = CL / polar.CD(CL, 0.3)
-    assert LD.max() == pytest.approx(14.1796, rel=1e-5)    # REFERENCES.md §8 value
+    assert LD.max() == pytest.approx(14.1796, rel=1e-5)    # docs/references.md check 3.3-a
     assert CL[np.argmax(LD)] == pytest.approx(np.sqrt(0.025 / induced_drag_factor(8, 0.8)), rel=1e-4)
 
 
 def test_minimum_drag_speed():
-    # Source: REFERENCES.md §8: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500 -> V_md 58.7727 m/s,
+    # Source: docs/references.md check 3.3-b: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500 -> V_md 58.7727 m/s,
     # V_min-power = V_md / 3^(1/4) = 44.6576 m/s.
     k = induced_drag_factor(8, 0.8)
     V = float(minimum_drag_speed(1500.0, 1.225, 0.025, k))
@@ -34,14 +34,14 @@ def test_minimum_drag_speed():
 
 
 def test_stall_speed_61_knots():
-    # Source: 14 CFR 23.49(c) 61 kt with the lift equation (REFERENCES.md CC4): sea level,
+    # Source: 14 CFR 23.49(c) 61 kt with the lift equation (docs/references.md check 3.4-a): sea level,
     # CLmax 2.0 -> W/S 1 206.35 N/m^2 ; the inverse gives 61.000 kt.
     V = float(stall_speed(1206.35, 1.225, 2.0))
     assert V / (1852 / 3600) == pytest.approx(61.0, abs=1e-3)
 
 
 def test_oswald_estimate():
-    # Source: Raymer Eq. 12.48, values computed in REFERENCES.md §4.4
+    # Source: Raymer Eq. 12.48, values computed in docs/references.md check 3.2-a
     for A, e in [(4, 0.934395), (6, 0.869121), (8, 0.810592), (10, 0.756617), (15, 0.634903)]:
         assert oswald_efficiency_straight_wing(A) == pytest.approx(e, abs=1e-6)
 

@@ -6,7 +6,7 @@ import pytest
 from sizing.physics.atmosphere import isa
 
 # Source: U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562), values by GEOPOTENTIAL altitude,
-# REFERENCES.md §1.3 (computed from the defining constants of Part 1; agree with ICAO Doc 7488).
+# docs/references.md §2.5, check 2.5-b (computed from the defining constants of Part 1; agree with ICAO Doc 7488).
 # columns: H [m], T [K], p [Pa], rho [kg/m^3], a [m/s]
 GEOPOTENTIAL_TABLE = [
     (0.0, 288.150, 101325.0, 1.225000, 340.294),
@@ -31,7 +31,7 @@ def test_table_by_geopotential_altitude(H, T, p, rho, a):
     assert float(air.speed_of_sound) == pytest.approx(a, abs=6e-4)
 
 
-# Source: REFERENCES.md §1.5, pressure altitude in feet (geopotential), computed from the 1976 standard.
+# Source: docs/references.md §2.6, check 2.6-a, pressure altitude in feet (geopotential), computed from the 1976 standard.
 FEET_TABLE = [  # h [ft], T [K], p [Pa], rho [kg/m^3]
     (5000, 278.244, 84307.3, 1.055550),
     (10000, 268.338, 69681.7, 0.904637),
@@ -68,7 +68,7 @@ def test_against_independent_library():
 def test_hot_day_at_constant_pressure():
     # common practice, no source: ISA+dT keeps the pressure of the pressure altitude and
     # raises the temperature; density from the gas law p / (R T), R = 287.05307 J/(kg K)
-    # (REFERENCES.md §1.1).
+    # (docs/references.md §2.2).
     std, hot = isa(2000 * 0.3048), isa(2000 * 0.3048, 15.0)
     assert float(hot.pressure) == float(std.pressure)
     assert float(hot.temperature) == pytest.approx(float(std.temperature) + 15.0)

@@ -1,6 +1,6 @@
-"""The installed console script on the example files; the --json object of DESIGN §6.
+"""The installed console script on the example files; the --json object of docs/file-format.md §10.
 
-# common practice, no source (interface checks against the product contract, DESIGN.md §6)
+# common practice, no source (interface checks against README.md "Usage" and "When things go wrong", docs/file-format.md §9-10)
 """
 import json
 import shutil

@@ -12,7 +12,7 @@ from sizing.physics.atmosphere import isa
 
 R0 = 6356766.0
 KT = 1852.0 / 3600.0
-K = induced_drag_factor(8.0, 0.8)   # REFERENCES.md §8 example polar: 0.0497359
+K = induced_drag_factor(8.0, 0.8)   # docs/references.md check 3.1-a: 0.0497359
 RHO_SL = float(isa(0.0).density)    # 1976 sea-level density from the defining constants
 
 
@@ -37,11 +37,11 @@ def req(kind, **fields):
     return M.requirement(d, aircraft())
 
 
-# ---------------------------------------------------------------- Gudmundsson set (CC8)
+# ---------------------------------------------------------------- Gudmundsson set (docs/references.md §6.8)
 
 def test_gudmundsson_turn_and_cruise():
     # Source: Gudmundsson, General Aviation Aircraft Design (2014) Eqs. 3-1 and 3-5 forms,
-    # REFERENCES.md §8 / CC8: CD0 0.025, A 8, e 0.8, W/S 1 500, 10 000 ft geometric
+    # docs/references.md check 6.8-a, check 6.8-b: CD0 0.025, A 8, e 0.8, W/S 1 500, 10 000 ft geometric
     # (rho 0.904773), V 60 m/s: turn n = 2 -> 0.21038, cruise -> 0.07295.
     ac = aircraft()
     h = geopotential(10000)
@@ -53,13 +53,13 @@ def test_gudmundsson_turn_and_cruise():
 
 
 def test_gudmundsson_climb():
-    # Source: Gudmundsson Eq. 3-3 (REFERENCES.md CC8): sea level, V 40 m/s, V_V 5 m/s -> 0.21746
+    # Source: Gudmundsson Eq. 3-3 (docs/references.md check 6.8-c): sea level, V 40 m/s, V_V 5 m/s -> 0.21746
     b = C.climb(1500.0, None, req("climb", climb_rate=5.0, speed=40.0), aircraft())
     assert float(b.thrust) == pytest.approx(0.21746, rel=1e-4)
 
 
 def test_gudmundsson_service_ceiling():
-    # Source: Gudmundsson Eq. 3-6 (REFERENCES.md CC8): 18 000 ft geometric (rho 0.698507),
+    # Source: Gudmundsson Eq. 3-6 (docs/references.md check 6.8-d): 18 000 ft geometric (rho 0.698507),
     # V_V 0.508 m/s, at V_y = sqrt((2/rho)(W/S) sqrt(k/(3 CD0))) -> 0.09002.
     ac = aircraft()
     h = geopotential(18000)
@@ -75,7 +75,7 @@ def test_gudmundsson_service_ceiling():
 
 
 def test_gudmundsson_takeoff_uav_brief():
-    # Source: Sobester & Forrester (2015) UAV brief with Gudmundsson Eq. 3-4 (REFERENCES.md §7.3):
+    # Source: Sobester & Forrester (2015) UAV brief with Gudmundsson Eq. 3-4 (docs/references.md check 6.8-f):
     # V_LOF 15.9478 m/s, S_G 60.0456 m, CL_TO 0.97, CD_TO 0.0898, mu 0.17 -> 0.32739 / 0.34689 /
     # 0.35664 at W/S 100 / 150 / 200 (book code uses g = 9.81; we use 9.80665: tolerance 3e-4).
     for W_S, expected in [(100, 0.32739), (150, 0.34689), (200, 0.35664)]:
@@ -85,7 +85,7 @@ def test_gudmundsson_takeoff_uav_brief():
 
 def test_takeoff_kind_matches_ground_roll_equation():
     # Hand calculation: the kind builds V_LOF = 1.1 V_stall,TO and CD_TO from the polar,
-    # then applies Gudmundsson Eq. 3-4 (Source: REFERENCES.md §5.1 form).
+    # then applies Gudmundsson Eq. 3-4 (Source: docs/references.md §6.4; check 7.1-a).
     ac = aircraft(takeoff_drag_increment=0.02)
     r = req("takeoff", ground_roll=600.0, rolling_friction=0.04, liftoff_speed_ratio=1.1,
             ground_lift_coefficient=0.5)
@@ -97,10 +97,10 @@ def test_takeoff_kind_matches_ground_roll_equation():
     assert float(C.takeoff(W_S, None, r, ac).thrust) == pytest.approx(hand, rel=1e-12)
 
 
-# ---------------------------------------------------------------- master equation (CC7)
+# ---------------------------------------------------------------- master equation (docs/references.md §5.4)
 
 def test_master_equation_supercruise_and_turn():
-    # Source: Mattingly Eq. 2.11, REFERENCES.md CC7 (self-defined inputs, geometric 30 kft):
+    # Source: Mattingly Eq. 2.11, docs/references.md check 5.4-a and check 5.4-b (self-defined inputs, geometric 30 kft):
     # supercruise M1.5, q 991.727 psf, alpha 0.47943, K1 0.27, CD0 0.028, W/S 64 psf, beta 0.78
     # -> 0.92711; turn n = 5 at M0.9, q 357.022, alpha 0.50324, K1 0.18, CD0 0.016 -> 1.15261.
     assert float(C.master_equation(64.0, 991.727, 1.0, 0.78, 0.47943, 0.028, 0.27)) == pytest.approx(0.92711, rel=1e-4)
@@ -143,7 +143,7 @@ def test_excess_power_and_max_mach():
 # ---------------------------------------------------------------- wing-loading limits
 
 def test_stall_limit_cc4():
-    # Source: 14 CFR 23.49(c) 61 kt + lift equation (REFERENCES.md CC4): CLmax 2.0 -> 1 206.35 N/m^2
+    # Source: 14 CFR 23.49(c) 61 kt + lift equation (docs/references.md check 3.4-a): CLmax 2.0 -> 1 206.35 N/m^2
     ac = aircraft()
     b = C.stall_speed(None, None, req("stall-speed", speed=61 * KT, config="landing"), ac)
     assert float(b.wing_loading) == pytest.approx(1206.35, rel=1e-4)
@@ -174,12 +174,12 @@ def test_landing_limit_hand_and_free_roll():
     assert float(b.wing_loading) == pytest.approx(RHO_SL * 2.0 * V ** 2 / (2 * 1.15 ** 2), rel=1e-12)
 
 
-# ---------------------------------------------------------------- climb gradient (CC3)
+# ---------------------------------------------------------------- climb gradient (docs/references.md §8)
 
 @pytest.mark.parametrize("N, G, expected", [(2, 0.024, 0.24800), (3, 0.027, 0.19050), (4, 0.030, 0.17333)])
 def test_engine_out_gradients(N, G, expected):
     # Source: 14 CFR 25.121(b) second-segment gradients with T/W = (N/(N-1))(G + 1/(L/D)),
-    # L/D = 10 (REFERENCES.md §8, CC3)
+    # L/D = 10 (docs/references.md check 8.5-b)
     assert C.engine_out_climb_thrust(G, 10.0, N) == pytest.approx(expected, abs=5e-6)
 
 
@@ -195,7 +195,7 @@ def test_climb_gradient_kind():
 # ---------------------------------------------------------------- propeller conversion
 
 def test_power_to_weight_conversion():
-    # Source: REFERENCES.md §6: T/W 0.1 at 150 kt with eta_p 0.8 -> P/W = 9.6458 W/N
+    # Source: docs/references.md check 15.4-a: T/W 0.1 at 150 kt with eta_p 0.8 -> P/W = 9.6458 W/N
     ac = aircraft("piston")
     air = isa(0.0)
     assert float(C.to_sea_level(0.1, 150 * KT, 1.0, ac)) == pytest.approx(9.6458, rel=1e-4)
@@ -251,7 +251,7 @@ def test_float_array_casadi_agree(kind, engine):
 
 
 def test_every_design_kind_has_a_function_with_source():
-    # common practice, no source: DESIGN §4 lists these kinds; each carries a published reference
+    # common practice, no source: docs/file-format.md §4 lists these kinds; each carries a published reference
     design_kinds = {"stall-speed", "sustained-turn", "max-mach", "ceiling", "climb", "excess-power", "cruise",
                     "instantaneous-turn", "takeoff", "landing", "climb-gradient"}
     assert set(C.KINDS) == design_kinds

@@ -3,7 +3,7 @@
 Checked against: the solve itself (every active requirement on its envelope
 boundary at its own conditions, every inactive one strictly inside), the
 constraint functions (Ps inverts flight_thrust to 1e-9), hand-worked values of
-the master equation (Mattingly Eq. 2.11, REFERENCES.md §3.1 and CC7), and an
+the master equation (Mattingly Eq. 2.11, docs/references.md §5.1 and §5.4), and an
 independent root-find (scipy brentq) on a Ps written here from the published
 formulas with the general-purpose `ambiance` ICAO atmosphere.
 """
@@ -36,8 +36,8 @@ from sizing.inputs.spec import load, validate
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 FT = 0.3048
-LBF_FT2 = 47.880259          # Pa per lbf/ft^2, REFERENCES.md §9 (exact definition)
-R0 = 6356766.0               # Earth radius of the 1976 standard for H <-> Z, REFERENCES.md §1.1
+LBF_FT2 = 47.880259          # Pa per lbf/ft^2, docs/references.md §16 (exact definition)
+R0 = 6356766.0               # Earth radius of the 1976 standard for H <-> Z, docs/references.md §2.2
 _CACHE = {}
 
 
@@ -184,16 +184,16 @@ def _ac(cd0, k1, engine="turbojet", TR=1.0, eta=0.8):
                            speed_limit_speed=None)
 
 
-# geometric 30 000 ft = geopotential 9 130.866 m (H = r0 Z/(r0 + Z), REFERENCES.md §1.1)
+# geometric 30 000 ft = geopotential 9 130.866 m (H = r0 Z/(r0 + Z), docs/references.md §2.4)
 H_30KFT = R0 * 9144.0 / (R0 + 9144.0)
 
 
 def test_ps_turn_case_of_the_master_equation():
-    # Source: REFERENCES.md CC7 / §8 (Mattingly Eq. 2.11, self-defined inputs): n = 5 turn at M0.9,
+    # Source: docs/references.md check 5.4-b and check 5.4-c (Mattingly Eq. 2.11, self-defined inputs): n = 5 turn at M0.9,
     # geometric 30 kft, W/S 64 lbf/ft^2, beta 0.78, K1 0.18, CD0 0.016, alpha = delta0 = 0.50324
     # -> T_SL/W_TO = 1.15261 with Ps = 0. Hence at T_SL/W_TO = Y the excess power is
     # Ps = V alpha (Y - 1.15261)/beta, with V = 0.9 a, a = sqrt(1.4 x 287.05307 x 0.79403 x 288.15)
-    # = 303.2305 m/s (theta 0.79403, REFERENCES.md §1.5): V = 272.9075 m/s.
+    # = 303.2305 m/s (theta 0.79403, docs/references.md §2.7, geometric feet): V = 272.9075 m/s.
     # Hand calculation: Y = 1.25 -> Ps = 272.9075 x 0.50324 x 0.09739 / 0.78 = 17.1479 m/s.
     ac = _ac(0.016, 0.18)
     cond = Conditions(beta=0.78, thrust_lapse=0.50324)
@@ -208,8 +208,8 @@ def test_ps_turn_case_of_the_master_equation():
 
 
 def test_ps_with_the_model_thrust_lapse():
-    # Source: REFERENCES.md §8 thrust-lapse table (Mattingly Eq. 2.54b): low-bypass turbofan,
-    # military, M0.9, geometric 30 kft, TR 1.07 -> alpha = 0.30194. Polar and weights of CC7:
+    # Source: docs/references.md check 4.7-i (Mattingly Eq. 2.54b): low-bypass turbofan,
+    # military, M0.9, geometric 30 kft, TR 1.07 -> alpha = 0.30194. Polar and weights of check 5.4-b:
     # q = 357.022 lbf/ft^2 = 17 094.31 Pa, W/S = 3 064.337 Pa, beta 0.78, n = 1, T_SL/W_TO = 1.
     # Hand calculation: CL = 0.78 x 3064.337/17094.31 = 0.139823; CD = 0.016 + 0.18 CL^2 = 0.0195191;
     # D/W_TO = q CD/(W/S) = 0.108887; Ps = 272.9075 (0.30194 - 0.108887)/0.78 = 67.546 m/s.
@@ -220,8 +220,8 @@ def test_ps_with_the_model_thrust_lapse():
 
 
 def test_ps_of_a_propeller_aircraft():
-    # Source: REFERENCES.md §6 (T = eta_p P / V; Gudmundsson §3.2): T/W = 0.1 at 150 kt TAS with
-    # eta_p 0.8 <-> P/W = 9.6458 W/N. Polar of REFERENCES.md §8: CD0 0.025, A 8, e 0.8 (K 0.0497359),
+    # Source: docs/references.md §15.1 and check 15.4-a (T = eta_p P / V; Gudmundsson §3.2): T/W = 0.1 at 150 kt TAS with
+    # eta_p 0.8 <-> P/W = 9.6458 W/N. Polar of docs/references.md §3.3 (check 3.1-a): CD0 0.025, A 8, e 0.8 (K 0.0497359),
     # W/S 1 500 N/m^2, sea level, piston lapse 1 at sea level (Gagg-Ferrar, sigma = 1).
     # Hand calculation: V = 77.1667 m/s (M 0.226765), q = 3 647.25 Pa, CL = 0.411269,
     # CD = 0.0334124, D/W = 0.0812423, Ps = 77.1667 (0.1 - 0.0812423) = 1.44747 m/s.
@@ -276,7 +276,7 @@ def test_trainer_ceilings_and_top_speed_against_brentq():
 
     h_abs = brentq(best, 8000.0, 20000.0, xtol=1e-4)
     h_svc = brentq(lambda h: best(h) - 100.0 * FT / 60.0, 8000.0, 20000.0, xtol=1e-4)
-    # tolerance: the two atmospheres agree to ~4e-6 (REFERENCES.md §1.4); 1 m of altitude
+    # tolerance: the two atmospheres agree to ~4e-6 (docs/references.md §2.7, check 2.7-b); 1 m of altitude
     assert env.absolute_ceiling[0] == pytest.approx(h_abs, abs=1.0)
     assert env.service_ceiling[0] == pytest.approx(h_svc, abs=1.0)
     assert env.service_ceiling[0] < env.absolute_ceiling[0]

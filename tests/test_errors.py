@@ -1,8 +1,8 @@
 """Bad input: located messages, exit code 2, no traceback; fuzzed files never crash.
 
-Every file in tests/broken/ is one class of bad input (DESIGN §7) run through the
+Every file in tests/broken/ is one class of bad input (docs/file-format.md §9) run through the
 real console script. The expectations below are the project's contract for
-those messages (DESIGN §7: file, line, field, what was wrong, what would fit),
+those messages (docs/file-format.md §9: file, line, field, what was wrong, what would fit),
 not numbers from a published source.  # common practice, no source
 """
 from __future__ import annotations
@@ -35,7 +35,7 @@ EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 SIZING = str(Path(sys.executable).with_name("sizing"))
 
 # file -> (line, field path or None, words the message must contain)
-# common practice, no source: the message contract of DESIGN §7
+# common practice, no source: the message contract of docs/file-format.md §9
 EXPECTED = {
     "yaml-syntax": (9, None, ["YAML syntax", "flow mapping that starts on line 8"]),
     "yaml-tab": (11, None, ["YAML syntax", "tab"]),
@@ -100,7 +100,7 @@ def test_every_broken_file_has_an_expectation():
 
 @pytest.mark.parametrize("name", sorted(EXPECTED))
 def test_broken_file_through_the_cli(broken_runs, name):
-    # common practice, no source: exit 2, one located message, no traceback (DESIGN §6, §7)
+    # common practice, no source: exit 2, one located message, no traceback (docs/file-format.md §9)
     r = broken_runs[name]
     line, field, words = EXPECTED[name]
     assert r.returncode == 2, (r.returncode, r.stdout, r.stderr)
@@ -142,7 +142,7 @@ def test_every_problem_is_listed():
 
 
 def test_units_that_fit_are_named():
-    # Source: DESIGN §4 "a bare number where a dimension is expected is an error that says
+    # Source: docs/file-format.md §2 "A bare number where a unit is needed is an error that names units that
     # which unit kinds fit"; 1 kn = 1852/3600 m/s, 1 ft = 0.3048 m (exact definitions)
     base = (BROKEN / "unknown-key.yaml").read_text().replace("aspect_ration", "aspect_ratio")
     spec = load_text(base.replace("speed: 95 kn", "speed: 95 knot").replace("15000 ft", "15 kft"), "ok.yaml")
@@ -273,7 +273,7 @@ _TEXTS = {p.name: p.read_text() for p in EXAMPLES}
        edits=st.integers(1, 3), text_level=st.booleans())
 def test_fuzzed_files_never_crash(tmp_path_factory, name, seed, edits, text_level):
     # common practice, no source: mutated example files end in exit 0, 2 or 3, never a
-    # traceback or a hang (DESIGN §6 exit codes, §7)
+    # traceback or a hang (docs/file-format.md §9 exit codes)
     rnd = random.Random(seed)
     if text_level:
         text = _TEXTS[name]
@@ -326,7 +326,7 @@ def _digest(path):
 
 
 def test_inputs_are_never_modified(tmp_path):
-    # common practice, no source: DESIGN §7 "inputs are never modified" (hash before/after)
+    # common practice, no source: docs/file-format.md §9 "Input files are only read, never written" (hash before/after)
     files = [*EXAMPLES, BROKEN / "unknown-key.yaml", BROKEN / "binary-garbage.yaml"]
     before = {f: _digest(f) for f in files}
     for f in files:

@@ -2,7 +2,7 @@
 
 Checks:
 * weight closure against the closed form m_TO = (crew + payload) / (1 - fuel - empty)
-  (Raymer, Aircraft Design: A Conceptual Approach, Eq. 3.4 -- from memory; also DESIGN §5);
+  (Raymer, Aircraft Design: A Conceptual Approach, Eq. 3.4 -- from memory; docs/references.md §13.1; also DEVELOPERS.md "Solve semantics in brief");
 * the smallest relaxations of a wing-loading limit left of where the available thrust works,
   against an independent bisection on the numpy constraint curves;
 * random feasible sets (hypothesis): the design meets every requirement re-evaluated in numpy;
@@ -259,7 +259,7 @@ def test_a_missed_optimum_is_found_again(monkeypatch):
 
 
 def test_a_design_that_fails_the_numpy_check_is_never_printed(monkeypatch):
-    # common practice, no source: DESIGN §5 -- a solver success that violates a requirement
+    # common practice, no source: README.md "When things go wrong" and DEVELOPERS.md "Data flow" step 4 -- a solver success that violates a requirement
     # is reported as a failure, not a design
     monkeypatch.setattr(Problem, "verify", lambda self, x, p: False)
     for path in EXAMPLES[:2]:
@@ -318,7 +318,7 @@ def random_set(rnd, harder=False):
 
 
 def assert_meets_everything(spec, res):
-    """Re-evaluate every requirement at the design with the numpy curves (DESIGN §5)."""
+    """Re-evaluate every requirement at the design with the numpy curves (DEVELOPERS.md "Data flow", step 4)."""
     tree = M.spec_tree(spec)
     ac = M.aircraft(tree)
     d = res.design

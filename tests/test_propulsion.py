@@ -19,7 +19,7 @@ def geometric(z_ft):
 
 
 def test_aaf_supercruise_military():
-    # Source: Mattingly, Aircraft Engine Design 2nd ed., AAF example (REFERENCES.md §3.4, CC6):
+    # Source: Mattingly, Aircraft Engine Design 2nd ed., AAF example (docs/references.md check 4.7-b):
     # M1.5 at 30 kft, TR 1.07, military power -> 0.4792 (book), 0.47943 (exact recomputation).
     th, de = geometric(30000)
     t0, d0 = inlet_conditions(th, de, 1.5)
@@ -29,12 +29,12 @@ def test_aaf_supercruise_military():
 
 
 def test_aaf_warmup_military():
-    # Source: Mattingly AAF warm-up at 2 000 ft hot day, M0 = 0 (REFERENCES.md §3.4): 0.5390.
+    # Source: Mattingly AAF warm-up at 2 000 ft hot day, M0 = 0 (docs/references.md check 4.7-a): 0.5390.
     assert float(lapse_low_bypass(1.0796, 0.9298, 0.0, 1.07)) == pytest.approx(0.5390, abs=5e-5)
 
 
 @pytest.mark.parametrize("engine, z_ft, M, TR, ab, expected", [
-    # Source: REFERENCES.md §8 "thrust lapse, extra cases" (Mattingly Eqs. 2.53-2.56, geometric altitude)
+    # Source: docs/references.md check 4.7-i (Mattingly Eqs. 2.53-2.56, geometric altitude)
     ("hbp", 35000, 0.8, 1.0, False, 0.20205),
     ("hbp", 0, 0.25, 1.0, False, 0.76617),
     ("lbp", 30000, 0.9, 1.07, False, 0.30194),
@@ -92,7 +92,7 @@ def test_both_branches_exercised():
 def test_continuous_at_the_break(engine, ab):
     # common practice, no source: the correlations are continuous at theta0 = TR.
     TR = 1.07
-    M_break = np.sqrt(5 * (TR - 1))  # REFERENCES.md §3.2: sea-level Mach at the break
+    M_break = np.sqrt(5 * (TR - 1))  # docs/references.md §4.1: sea-level Mach at the break
     lo = float(thrust_lapse(engine, 0.0, M_break - 1e-7, 0.0, TR, ab))
     hi = float(thrust_lapse(engine, 0.0, M_break + 1e-7, 0.0, TR, ab))
     assert lo == pytest.approx(hi, abs=1e-5)
@@ -100,7 +100,7 @@ def test_continuous_at_the_break(engine, ab):
 
 @pytest.mark.parametrize("engine", ["turbojet", "turbofan-low-bypass", "turbofan-high-bypass"])
 def test_sea_level_static_is_one_or_rating(engine):
-    # Source: REFERENCES.md CC6: static sea level -> 1.0 for all types (maximum rating);
+    # Source: docs/references.md check 4.7-d and check 4.7-h: static sea level -> 1.0 for all types (maximum rating);
     # the military ratings are 0.6 (low-bypass) and 0.8 (turbojet) of maximum (Eqs. 2.54b, 2.55b).
     assert float(thrust_lapse(engine, 0.0, 0.0, afterburner=True)) == pytest.approx(1.0)
     dry = {"turbojet": 0.8, "turbofan-low-bypass": 0.6, "turbofan-high-bypass": 1.0}[engine]
@@ -110,7 +110,7 @@ def test_sea_level_static_is_one_or_rating(engine):
 @pytest.mark.parametrize("ft, expected", [(5000, 0.84335), (10000, 0.70384), (20000, 0.47093)])
 def test_piston_gagg_ferrar(ft, expected):
     # Source: Gagg & Ferrar as used by Gudmundsson Ch. 7, values computed with geopotential
-    # sigma in REFERENCES.md §5.1.
+    # sigma in docs/references.md §4.5 (check 4.7-e).
     assert float(thrust_lapse("piston", ft * 0.3048, 0.3)) == pytest.approx(expected, abs=1e-5)
 
 
@@ -118,7 +118,7 @@ def test_turboprop_power_lapse():
     # Source: Anderson, Aircraft Performance and Design (1999), Eq. 3.36: P/P0 = (rho/rho0)^0.7.
     sigma = 0.533
     assert float(power_lapse_turboprop(sigma)) == pytest.approx(sigma ** 0.7, rel=1e-12)
-    # Source: REFERENCES.md §1.5: sigma(20 000 ft) = 0.53281
+    # Source: docs/references.md §2.6: sigma(20 000 ft) = 0.53281 (check 4.7-f)
     assert float(thrust_lapse("turboprop", 20000 * 0.3048, 0.4)) == pytest.approx(0.53281 ** 0.7, rel=2e-5)
     assert float(power_lapse_piston(1.0)) == 1.0
 

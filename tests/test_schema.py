@@ -114,7 +114,7 @@ def test_schema_rejects_what_it_can_express(validator, name):
 
 
 def test_schema_follows_the_file_format(schema):
-    # common practice, no source: DESIGN §4 -- dimensional values are strings with a unit, a
+    # common practice, no source: docs/file-format.md §2 -- dimensional values are strings with a unit, a
     # temperature offset may be a bare 0, a fraction may be '6 %'
     v = jsonschema.Draft202012Validator(schema)
     good = yaml.safe_load(EXAMPLES[0].read_text())

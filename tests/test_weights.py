@@ -22,7 +22,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 def test_breguet_propeller_range_anderson():
-    # Source: Anderson, Introduction to Flight, Ch. 6 light piston example (REFERENCES.md §7.2, CC5):
+    # Source: Anderson, Introduction to Flight, Ch. 6 light piston example (docs/references.md check 12.8-a):
     # eta 0.8, c 0.45 lb/(hp h), (L/D)max 13.6059, W0 2 950 lb, W1 2 583.4 lb -> R = 6.3553e6 ft.
     c = units.parse("0.45 lb/(hp*h)", "psfc").si      # weight-based, 1/m (mass-based x g0)
     R = 6.3553e6 * FT
@@ -31,7 +31,7 @@ def test_breguet_propeller_range_anderson():
 
 
 def test_breguet_jet_endurance_anderson():
-    # Source: Anderson, Introduction to Flight, Ch. 6 twin-jet example (REFERENCES.md §7.2, CC5):
+    # Source: Anderson, Introduction to Flight, Ch. 6 twin-jet example (docs/references.md check 12.8-d):
     # c_t 0.6 1/h, (L/D)max 16.8572, W0 19 815 lb, W1 12 351.3 lb -> E = 13.28 h (4.7808e4 s).
     c = units.parse("0.6 1/h", "tsfc").si
     f = W.breguet_loiter_fraction(4.7808e4, 16.8572, c)
@@ -39,7 +39,7 @@ def test_breguet_jet_endurance_anderson():
 
 
 def test_raymer_asw_segment_fractions():
-    # Source: Raymer Ch. 3 ASW example inputs (REFERENCES.md §7.4), fractions computed there:
+    # Source: Raymer Ch. 3 ASW example inputs (docs/references.md check 12.8-e), fractions computed there:
     # cruise 1 500 nmi at 596.9 ft/s, C 0.5 1/h, L/D 0.866*16 -> 0.858086; loiter 3 h, C 0.4 1/h,
     # L/D 16 -> 0.927743; 20 min -> 0.991701.
     cruise = W.breguet_cruise_fraction(1500 * 1852.0, 596.9 * FT, 0.866 * 16, 0.5 / 3600)
@@ -49,20 +49,20 @@ def test_raymer_asw_segment_fractions():
 
 
 def test_mass_based_consumption_is_converted_with_g0():
-    # Source: REFERENCES.md §9 exact conversions: mass-based 22 mg/(N s) times g0 is a weight-based
+    # Source: docs/references.md §16 exact conversions and check 12.7-a: mass-based 22 mg/(N s) times g0 is a weight-based
     # TSFC of 22e-6 * 9.80665 1/s (0.7767 1/h).
     assert units.parse("22 mg/(N*s)", "tsfc").si == pytest.approx(22e-6 * 9.80665, rel=1e-12)
     assert units.parse("22 mg/(N*s)", "tsfc").si * 3600 == pytest.approx(0.77669, rel=1e-4)
 
 
 def test_reserve_convention():
-    # Source: Raymer Ch. 3 (REFERENCES.md §4.3): Wf/W0 = 1.06 (1 - Wx/W0) for 6 % reserve and trapped fuel
+    # Source: Raymer Ch. 3 (docs/references.md §12.6, check 12.6-a): Wf/W0 = 1.06 (1 - Wx/W0) for 6 % reserve and trapped fuel
     assert W.fuel_fraction_from_segments(0.644023, reserve=0.06) == pytest.approx(1.06 * (1 - 0.644023))
     assert W.fuel_fraction_from_segments(0.7, reserve=0.04, trapped=0.01) == pytest.approx(1.05 * 0.3)
 
 
 @pytest.mark.parametrize("preset, W0, expected", [
-    # Source: Raymer Table 3.1 (REFERENCES.md §4.1, CC9)
+    # Source: Raymer Table 3.1 (docs/references.md check 11.5-a)
     ("general-aviation-single", 3000.0, 0.55851),
     ("general-aviation-single", 30000.0, 0.36900),
     ("jet-transport", 150000.0, 0.49892),
@@ -78,7 +78,7 @@ def test_raymer_table_3_1(preset, W0, expected):
 
 
 def test_raymer_table_6_1_refined():
-    # Source: Raymer Table 6.1 (REFERENCES.md §4.2, CC9): jet transport 150 000 lb, A 9, T/W 0.3,
+    # Source: Raymer Table 6.1 (docs/references.md check 11.5-b): jet transport 150 000 lb, A 9, T/W 0.3,
     # W/S 120 psf, M 0.85 -> 0.51682; fighter 24 000 lb, A 3.5, T/W 1.25, W/S 64, M 1.8 -> 0.68620
     c = W.STATISTICAL_PRESETS["jet-transport-refined"]
     assert float(W.empty_fraction_refined(150000.0, 9, 0.3, 120, 0.85, c["a"], c["b"], c["exponents"])) == \
@@ -107,7 +107,7 @@ ASW = {
 
 
 def test_raymer_asw_closure_fixed_point():
-    # Source: Raymer 3rd ed. Ch. 3 ASW example (REFERENCES.md §7.4, CC10): W_fixed 10 800 lb,
+    # Source: Raymer 3rd ed. Ch. 3 ASW example (docs/references.md check 13.2-a): W_fixed 10 800 lb,
     # Wf/W0 0.387, We/W0 = 0.93 W0^-0.07 -> W0 = 59 305 lb (0.1 %). The coupled solve must find
     # it whatever its own starting point.
     res = solve(validate(copy.deepcopy(ASW), "<asw>"))
@@ -118,7 +118,7 @@ def test_raymer_asw_closure_fixed_point():
 
 @pytest.mark.parametrize("guess_lb", [20000.0, 50000.0, 200000.0])
 def test_closure_iteration_converges_from_any_guess(guess_lb):
-    # Source: REFERENCES.md CC10: the fixed point W0 = 59 305 lb from guesses 20 000 to 200 000 lb
+    # Source: docs/references.md check 13.2-a: the fixed point W0 = 59 305 lb from guesses 20 000 to 200 000 lb
     W0 = guess_lb
     for _ in range(200):
         W0 = W.closure_mass(10800.0, 0.387, float(W.empty_fraction_power_law(W0, 0.93, -0.07)))
@@ -182,7 +182,7 @@ def test_coupled_mission_solve_against_brute_force(data):
 
 
 def test_units_of_fuel_consumption_for_props():
-    # Source: REFERENCES.md §4.3: propeller Breguet uses C = C_bhp V/(550 eta_p) in English units;
+    # Source: docs/references.md §12.1 and check 12.8-f: propeller Breguet uses C = C_bhp V/(550 eta_p) in English units;
     # equivalently W1/W0 = exp(-R c/(eta_p L/D)) with c weight-based per energy. 0.5 lb/(hp h),
     # 1 000 nmi, L/D 12, eta 0.8 -> ratio computed both ways.
     c_si = units.parse("0.5 lb/(hp*h)", "psfc").si
@@ -225,7 +225,7 @@ def _mission_tree(segment, engine="turbofan-high-bypass"):
 
 
 def test_loiter_at_best_endurance_speed_uses_max_lift_to_drag():
-    # Source: Raymer Ch. 3 (REFERENCES.md §4.3): jet loiter at (L/D)max, W1/W0 = exp(-E C/(L/D));
+    # Source: Raymer Ch. 3 (docs/references.md §12.2-12.3): jet loiter at (L/D)max, W1/W0 = exp(-E C/(L/D));
     # (L/D)max = 1/(2 sqrt(CD0 k1)) (Anderson, Aircraft Performance and Design §5.4).
     tree, ac = _mission_tree({"kind": "loiter", "time": 3600.0, "altitude": 3000.0})
     (_n, f, _b), = W.mission_fractions(tree, ac, 4000.0)
@@ -234,7 +234,7 @@ def test_loiter_at_best_endurance_speed_uses_max_lift_to_drag():
 
 
 def test_combat_segment_burns_fuel_at_the_thrust_of_its_load_factor():
-    # Source: Mattingly, Aircraft Engine Design 2nd ed., Eq. 3.16 (REFERENCES.md §3.5):
+    # Source: Mattingly, Aircraft Engine Design 2nd ed., Eq. 3.16 (docs/references.md §12.5, check 12.5-a):
     # W_f/W_i = exp(-TSFC (D/W) dt), D/W = q CD/(W/S) with CL = n (W/S)/q; hand calculation at
     # 3 000 m, 200 m/s, n 3, W/S 4 000 N/m^2, 2 min.
     from sizing.physics.atmosphere import isa

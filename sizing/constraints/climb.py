@@ -20,7 +20,7 @@ def engine_out_climb_thrust(gradient, lift_to_drag, engines, engines_out=1):
 
     Examples
     --------
-    Source: REFERENCES.md CC3 (14 CFR 25.121(b) second segment, twin,
+    Source: docs/references.md check 8.5-b (14 CFR 25.121(b) second segment, twin,
     G = 2.4 %, L/D = 10) -> T/W = 0.248.
 
     >>> round(engine_out_climb_thrust(0.024, 10.0, 2), 6)

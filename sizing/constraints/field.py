@@ -32,7 +32,7 @@ def takeoff_ground_roll_thrust(W_S, rho, V_LOF, S_G, CD_TO, CL_TO, mu):
 
     Examples
     --------
-    Source: REFERENCES.md CC8 (Gudmundsson Eq. 3-4 form): sea level,
+    Source: docs/references.md check 6.8-e (Gudmundsson Eq. 3-4 form): sea level,
     V_LOF 30 m/s, S_G 300 m, CD_TO 0.04, CL_TO 0.6, mu 0.04, W/S 1 500
     N/m^2 -> T/W = 0.19590.
 

@@ -20,7 +20,7 @@ from ..physics.atmosphere import isa
 from ..physics.propulsion import is_propeller, thrust_lapse
 
 FT_PER_MIN = 0.3048 / 60.0
-SERVICE_CEILING_CLIMB_RATE = 100.0 * FT_PER_MIN   # 0.508 m/s, REFERENCES.md §2.5
+SERVICE_CEILING_CLIMB_RATE = 100.0 * FT_PER_MIN   # 0.508 m/s, docs/references.md §10
 
 
 @dataclass(frozen=True)
@@ -55,7 +55,7 @@ def master_equation(W_S, q, V, beta, alpha, CD0, k1, k2=0.0, n=1.0, Ps=0.0):
 
     Examples
     --------
-    Source: REFERENCES.md CC7 (Mattingly Eq. 2.11, self-defined inputs):
+    Source: docs/references.md check 5.4-b (Mattingly Eq. 2.11, self-defined inputs):
     turn n = 5 at M0.9, geometric 30 kft, W/S 64 lbf/ft^2, beta 0.78,
     K1 0.18, CD0 0.016, q = 357.022 lbf/ft^2, alpha = delta0 = 0.50324
     -> T_SL/W_TO = 1.15261 (units cancel, so lbf/ft^2 may be used).

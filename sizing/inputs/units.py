@@ -111,7 +111,7 @@ def parse(value, dimension: str) -> Quantity:
 
     Examples
     --------
-    Source: REFERENCES.md §9 exact conversions (1 ft = 0.3048 m).
+    Source: docs/references.md §16 exact conversions (1 ft = 0.3048 m).
 
     >>> round(parse("1000 ft", "length").si, 9)
     304.8

@@ -54,7 +54,7 @@ def induced_drag_factor(aspect_ratio, oswald_efficiency):
 
     Examples
     --------
-    Source: REFERENCES.md §8 example polar (A = 8, e = 0.8 -> K = 0.0497359).
+    Source: docs/references.md check 3.1-a (A = 8, e = 0.8 -> K = 0.0497359).
 
     >>> round(induced_drag_factor(8.0, 0.8), 7)
     0.0497359
@@ -74,7 +74,7 @@ def oswald_efficiency_straight_wing(aspect_ratio):
 
     Examples
     --------
-    Source: REFERENCES.md §4.4, computed from Raymer Eq. 12.48: e(4) = 0.934395.
+    Source: Raymer Eq. 12.48, computed in docs/references.md check 3.2-a: e(4) = 0.934395.
 
     >>> round(oswald_efficiency_straight_wing(4.0), 6)
     0.934395
@@ -138,7 +138,7 @@ def max_lift_to_drag(CD0, k1):
 
     Examples
     --------
-    Source: REFERENCES.md CC5, Anderson *Introduction to Flight* Ch. 6 light
+    Source: Anderson *Introduction to Flight* Ch. 6 (docs/references.md check 3.3-c) light
     piston example: A = 7.3657, CD0 = 0.025, e = 0.8 -> (L/D)max = 13.606.
 
     >>> round(float(max_lift_to_drag(0.025, induced_drag_factor(7.3657, 0.8))), 3)
@@ -152,7 +152,7 @@ def minimum_drag_speed(W_S, rho, CD0, k1):
 
     Examples
     --------
-    Source: REFERENCES.md §8: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500
+    Source: docs/references.md check 3.3-b: CD0 0.025, A 8, e 0.8, sea level, W/S 1 500
     N/m^2 -> V_md = 58.7727 m/s.
 
     >>> round(float(minimum_drag_speed(1500.0, 1.225, 0.025, induced_drag_factor(8, 0.8))), 3)
@@ -166,7 +166,7 @@ def stall_speed(W_S, rho, CLmax, n=1.0):
 
     Examples
     --------
-    Source: REFERENCES.md CC4 (14 CFR 23.49 61 kt case, inverse check):
+    Source: 14 CFR 23.49(c) 61 kt case, inverse check (docs/references.md check 3.4-a):
     W/S 1 206.35 N/m^2, sea level, CLmax 2.0 -> 31.381 m/s (61.0 kt).
 
     >>> round(float(stall_speed(1206.35, 1.225, 2.0)), 3)

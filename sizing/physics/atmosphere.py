@@ -164,7 +164,7 @@ def isa(altitude_m, temperature_offset_K=0.0) -> Atmosphere:
     Examples
     --------
     Source: U.S. Standard Atmosphere 1976, tropopause at H = 11 000 m
-    (REFERENCES.md CC1): T = 216.650 K, p = 22 632.06 Pa, rho = 0.363918.
+    (docs/references.md check 2.5-a): T = 216.650 K, p = 22 632.06 Pa, rho = 0.363918.
 
     >>> air = isa(11000.0)
     >>> round(float(air.temperature), 3), round(float(air.pressure), 1)

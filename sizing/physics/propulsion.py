@@ -39,7 +39,7 @@ def inlet_conditions(theta, delta, M):
 
     Examples
     --------
-    Source: Mattingly AAF example (REFERENCES.md §3.4): supercruise M1.5 at
+    Source: Mattingly AAF example (docs/references.md check 4.7-g): supercruise M1.5 at
     30 kft, theta 0.7940, delta 0.2975 -> theta0 1.1513, delta0 1.0921.
 
     >>> t0, d0 = inlet_conditions(0.7940, 0.2975, 1.5)
@@ -68,7 +68,7 @@ def lapse_low_bypass(theta0, delta0, M, TR, afterburner=False):
 
     Examples
     --------
-    Source: Mattingly AAF warm-up (REFERENCES.md CC6): military power,
+    Source: Mattingly AAF warm-up (docs/references.md check 4.7-a): military power,
     theta0 1.0796, delta0 0.9298, M 0, TR 1.07 -> alpha = 0.5390.
 
     >>> round(float(lapse_low_bypass(1.0796, 0.9298, 0.0, 1.07)), 4)
@@ -118,7 +118,7 @@ def power_lapse_piston(sigma):
 
     Examples
     --------
-    Source: REFERENCES.md §5.1 (Gudmundsson Ch. 7 form), geopotential
+    Source: Gagg and Ferrar as used by Gudmundsson Ch. 7 (docs/references.md §4.5, check 4.7-e), geopotential
     10 000 ft, sigma = 0.73848 -> 0.70384.
 
     >>> round(float(power_lapse_piston(0.73848)), 5)
@@ -166,7 +166,7 @@ def thrust_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
 
     Examples
     --------
-    Source: REFERENCES.md §8 (Mattingly Eq. 2.53 computed by geometric
+    Source: Mattingly Eqs. 2.53-2.55 (docs/references.md §4.3, check 4.7-d; the other lapse checks are by geometric
     altitude); hand calculation here by geopotential altitude: sea-level
     static is 1 for every jet family.
 

@@ -11,7 +11,7 @@ def closure_mass(fixed_mass, fuel_frac, empty_frac):
 
     Examples
     --------
-    Source: REFERENCES.md CC10 (Raymer Ch. 3 ASW example, fixed point):
+    Source: Raymer Ch. 3 ASW example, fixed point (docs/references.md check 13.2-a):
     10 800 lb fixed, Wf/W0 0.387, We/W0 = 0.93 W0^-0.07 -> W0 = 59 305 lb
     (solved in the tests by iteration); here one step with We/W0 0.43089.
 

@@ -13,7 +13,7 @@ from ..physics import shim as m
 from ..physics.atmosphere import g0
 
 # Raymer, Aircraft Design: A Conceptual Approach, Table 3.1 (We/W0 = A W0^C K_vs,
-# W0 in lb) and Table 6.1 (jets, refined: a, b, C1..C5). Source: REFERENCES.md §4.1-4.2.
+# W0 in lb) and Table 6.1 (jets, refined: a, b, C1..C5). Source: docs/references.md §11.1-11.3.
 STATISTICAL_PRESETS = {
     "sailplane-unpowered": {"a": 0.86, "c": -0.05},
     "sailplane-powered": {"a": 0.91, "c": -0.05},
@@ -41,7 +41,7 @@ def empty_fraction_power_law(W0_lb, A, C, K_vs=1.0):
 
     Examples
     --------
-    Source: REFERENCES.md CC9, Raymer Table 3.1 general aviation single
+    Source: Raymer Table 3.1 (docs/references.md check 11.5-a), general aviation single
     engine (A 2.36, C -0.18) at W0 = 3 000 lb -> 0.55851.
 
     >>> round(float(empty_fraction_power_law(3000.0, 2.36, -0.18)), 5)
@@ -57,7 +57,7 @@ def empty_fraction_refined(W0_lb, A, T_W, W_S_psf, M_max, a, b, C, K_vs=1.0):
 
     Examples
     --------
-    Source: REFERENCES.md CC9, Raymer Table 6.1 jet transport: W0 150 000 lb,
+    Source: Raymer Table 6.1 (docs/references.md check 11.5-b), jet transport: W0 150 000 lb,
     A 9, T/W 0.3, W/S 120, M 0.85 -> 0.51682.
 
     >>> round(float(empty_fraction_refined(150000.0, 9, 0.3, 120, 0.85, 0.32, 0.66,

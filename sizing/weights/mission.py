@@ -27,7 +27,7 @@ def breguet_cruise_fraction(range_m, V, lift_to_drag, c, propeller=False, eta_p=
 
     Examples
     --------
-    Source: REFERENCES.md §7.4 (Raymer Ch. 3 ASW example): 1 500 nmi at
+    Source: Raymer Ch. 3 ASW example (docs/references.md check 12.8-e): 1 500 nmi at
     596.9 ft/s, C = 0.5 1/h, L/D = 0.866 x 16 -> 0.858086.
 
     >>> R = 1500 * 1852.0; V = 596.9 * 0.3048
@@ -46,7 +46,7 @@ def breguet_loiter_fraction(time_s, lift_to_drag, c, V=None, propeller=False, et
 
     Examples
     --------
-    Source: REFERENCES.md §7.4 (Raymer ASW example): 3 h loiter, C = 0.4 1/h,
+    Source: Raymer ASW example (docs/references.md check 12.8-e): 3 h loiter, C = 0.4 1/h,
     L/D = 16 -> 0.927743.
 
     >>> round(float(breguet_loiter_fraction(3 * 3600.0, 16.0, 0.4 / 3600)), 6)
@@ -62,7 +62,7 @@ def fuel_fraction_from_segments(product, reserve=0.0, trapped=0.0):
 
     Examples
     --------
-    Source: REFERENCES.md §4.3 (Raymer: 1.06 for 6 % reserve and trapped fuel),
+    Source: Raymer Ch. 3, 1.06 for 6 % reserve and trapped fuel (docs/references.md §12.6, check 12.6-a),
     hand calculation: product 0.8 -> 1.06 x 0.2 = 0.212.
 
     >>> round(fuel_fraction_from_segments(0.8, 0.06), 6)
