@@ -33,7 +33,7 @@ def test_table_by_geopotential_altitude(H, T, p, rho, a):
 
 # Source: docs/references.md §2.6, check 2.6-a, pressure altitude in feet (geopotential), computed from the 1976 standard.
 FEET_TABLE = [  # h [ft], T [K], p [Pa], rho [kg/m^3]
-    (5000, 278.244, 84307.3, 1.055550),
+    (5000, 278.244, 84307.3, 1.055546),
     (10000, 268.338, 69681.7, 0.904637),
     (20000, 248.526, 46563.3, 0.652694),
     (30000, 228.714, 30089.6, 0.458312),

@@ -134,6 +134,15 @@ def _located(msg, study_file, lines, key, fld=None) -> InputError:
     return InputError(msg, study_file, lines.get(key), fld)
 
 
+def _nodes(tree, path):
+    """The nodes along a path of the SI tree (the root excluded)."""
+    out, node = [], tree
+    for k in path:
+        node = node[k]
+        out.append(node)
+    return out
+
+
 class _Reader:
     """Reads one study: resolves its paths in the base file, checks values with its schema."""
 
@@ -196,13 +205,17 @@ class _Reader:
         if isinstance(tnode, dict):
             if M.is_table(tnode):
                 name = next(k for k in tnode if k != "mach")
-                raise fail(f"this is a Mach table; vary one entry, e.g. {text}.{name}.0 "
-                           f"(entries 0 to {len(tnode[name]) - 1})")
+                raise fail("this is a Mach table: its breakpoints and values are the problem's structure "
+                           "(its monotone interpolant is built from numbers), so a study cannot vary it; "
+                           "write one base file per table")
             raise fail(f"this is a group ({', '.join(tnode)}), not a single value")
         if tpath not in self.index:
             if len(tpath) >= 2 and tpath[-2] == "mach":
                 raise fail("Mach-table breakpoints are the problem's structure, not parameters; a study "
                            "cannot move them (vary the table's values, or write one base file per breakpoint set)")
+            if any(M.is_table(n) for n in _nodes(self.tree, tpath)):
+                raise fail("Mach-table entries are the problem's structure, not parameters; a study cannot "
+                           "vary them (write one base file per table)")
             raise fail(f"{tnode!r} is a setting of the problem's structure, not a numeric parameter")
         return Varied(str(text), tpath, rpath, self.index[tpath], "", self.lines.get(key))
 

@@ -28,10 +28,10 @@ def breguet_cruise_fraction(range_m, V, lift_to_drag, c, propeller=False, eta_p=
     Examples
     --------
     Source: Raymer Ch. 3 ASW example (docs/references.md check 12.8-e): 1 500 nmi at
-    596.9 ft/s, C = 0.5 1/h, L/D = 0.866 x 16 -> 0.858086.
+    596.9 ft/s, C = 0.5 1/h, L/D = 0.866 x 16 -> 0.858083.
 
     >>> R = 1500 * 1852.0; V = 596.9 * 0.3048
-    >>> abs(float(breguet_cruise_fraction(R, V, 0.866 * 16, 0.5 / 3600)) - 0.858086) < 1e-5
+    >>> abs(float(breguet_cruise_fraction(R, V, 0.866 * 16, 0.5 / 3600)) - 0.858083) < 1e-6
     True
     """
     if propeller:
