@@ -56,6 +56,10 @@ def _parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", parents=[common], help="validate a requirement file only")
     c.add_argument("file")
 
+    x = sub.add_parser("explore", parents=[common], help="live what-if page in the browser (local server)")
+    x.add_argument("file")
+    x.add_argument("--port", type=int, default=5006, help="TCP port on 127.0.0.1 (default 5006; 0 picks a free one)")
+
     sc = sub.add_parser("schema", parents=[common], help="print the JSON Schema of requirement files (for editors)")
     sc.add_argument("-o", "--output", default=None, help="write it to this file instead of printing it")
     return p
@@ -164,8 +168,15 @@ def cmd_study(args) -> int:
     return EXIT_OK
 
 
+def cmd_explore(args) -> int:
+    from .explore.server import serve
+
+    return serve(args.file, port=args.port)
+
+
 COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagram": cmd_diagram,
-            "report": cmd_report, "envelope": cmd_envelope, "study": cmd_study}
+            "report": cmd_report, "envelope": cmd_envelope, "study": cmd_study,
+            "explore": cmd_explore}
 
 
 def main(argv=None) -> int:
