@@ -118,6 +118,17 @@ def parse(value, dimension: str) -> Quantity:
     >>> parse("95 kn", "speed").unit
     'kn'
     """
+    if isinstance(value, str):
+        return _parse_text(value, dimension)    # pint is slow; the same text gives the same Quantity
+    return _parse(value, dimension)
+
+
+@lru_cache(maxsize=4096)
+def _parse_text(value: str, dimension: str) -> Quantity:
+    return _parse(value, dimension)
+
+
+def _parse(value, dimension: str) -> Quantity:
     dim = DIMENSIONS[dimension]
     if isinstance(value, bool):
         raise UnitError(f"{value!r} is not a {dim.name}; write a number with a unit, e.g. {dim.examples}")
