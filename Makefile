@@ -4,7 +4,7 @@ VENV   := .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 
-.PHONY: demo test bench clean
+.PHONY: demo test bench clean browser
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -19,11 +19,25 @@ demo: $(STAMP)
 	$(BIN)/sizing diagram $(DEMO) -o out/demo-diagram.png --data out/demo-curves.csv
 	$(BIN)/sizing report $(DEMO) -o out/demo-review.html
 
-test: $(STAMP)
-	$(BIN)/python -m pytest -q
+# Headless Chromium for the browser tests of `sizing explore` (tests/test_explore_browser.py):
+# Debian's package, installed when missing and apt-get runs as root; elsewhere those tests
+# skip and say why. Playwright drives it (installed with the test extras; it downloads no browser).
+CHROMIUM := /usr/bin/chromium
+
+browser:
+	@test -x $(CHROMIUM) || { \
+	  if command -v apt-get >/dev/null 2>&1 && [ "$$(id -u)" = 0 ]; then \
+	    echo "installing Debian's chromium for the browser tests"; \
+	    { apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
+	        chromium fonts-liberation >/dev/null; } || echo "could not install chromium: the browser tests will skip"; \
+	  else echo "no $(CHROMIUM) and no apt-get as root here: the browser tests will skip"; fi; }
+
+test: $(STAMP) browser
+	$(BIN)/python -m pytest -q -rs
 
 bench: $(STAMP)
 	$(BIN)/python bench/run.py
+	$(BIN)/python bench/explore.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info out

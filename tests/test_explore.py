@@ -233,25 +233,34 @@ def test_a_new_mach_table_builds_a_new_problem(explorers):
     assert step.numbers.takeoff_mass > ex.base.design.takeoff_mass      # more drag, heavier
 
 
-class _Hold:
-    """A worker thread kept busy until released (so requests pile up)."""
+class _Pools:
+    """The solve thread (kept busy until released, so requests pile up) and the follow-up thread."""
 
-    def __init__(self):
-        self.pool = ThreadPoolExecutor(max_workers=1)
+    def __init__(self, hold=False):
+        self.solve, self.follow = ThreadPoolExecutor(max_workers=1), ThreadPoolExecutor(max_workers=1)
         self.gate = threading.Event()
-        self.pool.submit(self.gate.wait)
+        if hold:
+            self.solve.submit(self.gate.wait)
+
+    def session(self, ex, got):
+        return Session(ex, lambda kind, payload: got.append((kind, payload)), executor=self.solve,
+                       follow_up=self.follow)
+
+    def finish(self):
+        self.gate.set()
+        self.solve.shutdown(wait=True)
+        self.follow.shutdown(wait=True)
 
 
 def test_changes_during_a_solve_are_coalesced(explorers):
     ex = explorers["touring-piston.yaml"]
-    hold, got = _Hold(), []
-    session = Session(ex, lambda kind, payload: got.append((kind, payload)), executor=hold.pool)
+    pools, got = _Pools(hold=True), []
+    session = pools.session(ex, got)
     key = "requirements.stall-61kt.speed"
     for v in (60, 59, 58, 57, 56):
         values = dict(ex.initial, **{key: float(v)})
         session.request(values, key)
-    hold.gate.set()
-    hold.pool.shutdown(wait=True)
+    pools.finish()
     kinds = [k for k, _ in got]
     assert kinds == ["numbers", "curves", "result"], kinds
     step = got[0][1]
@@ -261,14 +270,30 @@ def test_changes_during_a_solve_are_coalesced(explorers):
     assert got[2][1][1].design.takeoff_mass == pytest.approx(fresh.design.takeoff_mass, rel=1e-6)
 
 
+def test_a_new_change_does_not_wait_for_the_margins_of_the_last(explorers):
+    ex = explorers["regional-turboprop.yaml"]        # its costs and margin texts take the longest
+    pools, got = _Pools(), []
+    session = pools.session(ex, got)
+    key = "requirements.field.ground_roll"
+    arrived = threading.Event()
+    session.publish = lambda kind, payload: (got.append((kind, payload)), kind == "numbers" and arrived.set())
+    session.request(dict(ex.initial, **{key: 880.0}), key)
+    assert arrived.wait(30)
+    session.request(dict(ex.initial, **{key: 860.0}), key)
+    pools.finish()
+    order = [(k, p.values[key] if k == "numbers" else p[0].values[key]) for k, p in got]
+    assert order.index(("numbers", 860.0)) < order.index(("result", 860.0))
+    assert ("result", 880.0) not in order[order.index(("numbers", 860.0)):]   # superseded: dropped
+    assert order[-1] == ("result", 860.0)
+
+
 def test_infeasible_values_keep_the_last_good_design_and_are_diagnosed(explorers):
     ex = explorers["touring-piston.yaml"]
-    got = []
-    pool = ThreadPoolExecutor(max_workers=1)
-    session = Session(ex, lambda kind, payload: got.append((kind, payload)), executor=pool)
+    pools, got = _Pools(), []
+    session = pools.session(ex, got)
     key = "requirements.stall-61kt.speed"
     session.request(dict(ex.initial, **{key: 35.0}), key)
-    pool.shutdown(wait=True)
+    pools.finish()
     kinds = [k for k, _ in got]
     assert kinds[:2] == ["numbers", "result"], kinds
     assert got[0][1].numbers is None
@@ -285,13 +310,12 @@ def test_infeasible_values_keep_the_last_good_design_and_are_diagnosed(explorers
 
 def test_a_change_the_file_format_refuses_is_refused_at_its_control(explorers):
     ex = explorers["regional-turboprop.yaml"]
-    got = []
-    pool = ThreadPoolExecutor(max_workers=1)
-    session = Session(ex, lambda kind, payload: got.append((kind, payload)), executor=pool)
+    pools, got = _Pools(), []
+    session = pools.session(ex, got)
     key = "requirements.second-segment.engines_out"
     assert ex.refusal(key, 2) is None                 # in range for the key alone...
     session.request(dict(ex.initial, **{key: 2.0}), key)
-    pool.shutdown(wait=True)
+    pools.finish()
     assert [k for k, _ in got] == ["refused"]
     assert got[0][1][0] == key and "leaves no engine running" in got[0][1][1]   # ...but not with 2 engines
     assert session.accepted[key] == 1.0

@@ -20,7 +20,6 @@ import re
 from dataclasses import dataclass
 
 from ..physics.atmosphere import H_MAX, H_MIN
-from ..problem import tree as M
 
 INF = math.inf
 
@@ -366,9 +365,3 @@ def controls_of(spec, paths) -> list:
                            requirement=rid))
     order = {"requirements": 0, "aircraft": 1, "mission": 2}
     return sorted(out, key=lambda c: order[c.raw_path[0]])     # stable: file order inside each
-
-
-def headline(spec, rid) -> str | None:
-    """The field a requirement is sized by (its sensitivity's field)."""
-    tree = M.spec_tree(spec)
-    return M.value_field(tree["requirements"][rid])

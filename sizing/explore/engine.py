@@ -52,6 +52,15 @@ from .controls import controls_of, shown
 FT2 = 0.09290304         # m^2 per ft^2 (exact)
 MAX_PROBLEMS = 4         # built problems kept (one per Mach-table structure)
 
+# The step from the last answer: the built problem's own NLP and tolerances with IPOPT's
+# warm-start options, a monotone barrier started small and an iteration cap (the trade
+# studies' warm step, sizing/studies/runner.py); its answer is checked in numpy
+# (Problem.verify) and a step that does not settle goes to Problem.solve_raw.
+WARM_OPTIONS = {"ipopt.warm_start_init_point": "yes", "ipopt.warm_start_bound_push": 1e-10,
+                "ipopt.warm_start_mult_bound_push": 1e-10, "ipopt.mu_strategy": "monotone",
+                "ipopt.mu_init": 1e-8, "ipopt.max_iter": 60}
+_SUCCESS = ("Solve_Succeeded", "Solved_To_Acceptable_Level")
+
 
 @dataclass(frozen=True)
 class Numbers:
@@ -144,6 +153,8 @@ class Explorer:
             self.text = ""                     # changed on disk between the reads: never splice into it
         self.problem = Problem(self.spec)
         self._problems = {self.problem.structure: self.problem}
+        self._warm_solvers = {}
+        self._twins = {}
         self.controls = controls_of(self.spec, self.problem.paths)
         self.by_key = {c.key: c for c in self.controls}
         self.initial = {c.key: c.value for c in self.controls}
@@ -151,6 +162,8 @@ class Explorer:
         self.base = self.problem.solve(self.problem.parameters(self.spec), spec=self.spec)
         self.base_seconds = time.perf_counter() - t0
         self.base_warm = self.base.stats.get("warm")
+        if self.base_warm is not None:
+            self.quick(self.initial, self.base_warm)     # builds the warm step once, before any page opens
         from ..charts.diagram_data import diagram_data
 
         self.curves_base = diagram_data(self.spec, self.base)
@@ -203,7 +216,9 @@ class Explorer:
         if prob is None:
             prob = Problem(spec)
             if len(self._problems) >= MAX_PROBLEMS:
-                self._problems.pop(next(k for k in self._problems if k != self.problem.structure))
+                old = self._problems.pop(next(k for k in self._problems if k != self.problem.structure))
+                self._warm_solvers.pop(id(old), None)
+                self._twins.pop(id(old), None)
             self._problems[key] = prob
         return prob, prob.parameters(spec)
 
@@ -221,7 +236,7 @@ class Explorer:
         if x0 is not None and len(x0) != len(prob.lbx):
             x0 = lam_g0 = lam_x0 = None
         t2 = time.perf_counter()
-        x, lam_g, lam_x, stats, verified = prob.solve_raw(p, x0, lam_g0, lam_x0)
+        x, lam_g, lam_x, stats, verified = self.solve(prob, p, x0, lam_g0, lam_x0)
         t3 = time.perf_counter()
         numbers = self.numbers(prob, x, p) if verified else None
         t4 = time.perf_counter()
@@ -229,6 +244,27 @@ class Explorer:
               "solve_time_s": t3 - t2, "build_time_s": prob.build_time}
         return Step(dict(values), spec, prob, p, x, lam_g, lam_x, st, verified, numbers, t4 - t0,
                     {"validate": t1 - t0, "parameters": t2 - t1, "solve": t3 - t2, "numbers": t4 - t3}, t0)
+
+    def solve(self, prob, p, x0=None, lam_g0=None, lam_x0=None):
+        """(x, lam_g, lam_x, stats, verified): the warm step from the last answer, checked in numpy,
+        else ``Problem.solve_raw`` (its warm start, cold start, W/S scan and other starting points)."""
+        if x0 is not None and lam_g0 is not None:
+            solver = self._warm_solvers.get(id(prob))
+            if solver is None:
+                import casadi as ca
+
+                from ..problem.nlp import IPOPT_OPTIONS
+
+                nlp = {"x": prob.x_sym, "p": prob.p_sym, "f": prob.f_sym, "g": prob.g_sym}
+                solver = self._warm_solvers[id(prob)] = ca.nlpsol("explore_warm", "ipopt", nlp,
+                                                                  {**IPOPT_OPTIONS, **WARM_OPTIONS})
+            sol = solver(x0=x0, p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg,
+                         lam_g0=lam_g0, lam_x0=lam_x0)
+            stats = solver.stats()
+            x = np.array(sol["x"]).ravel()
+            if stats.get("return_status") in _SUCCESS and prob.verify(x, p):
+                return x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel(), stats, True
+        return prob.solve_raw(p, x0, lam_g0, lam_x0)
 
     @staticmethod
     def numbers(prob, x, p) -> Numbers:
@@ -279,17 +315,28 @@ class Explorer:
 
         return diagram_data(step.spec, result or self.light_result(step))
 
-    def complete(self, step) -> Result:
+    def complete(self, step, twin=False) -> Result:
         """The full result: costs and margins, or the diagnosis of an infeasible set (step 3).
 
-        Raises :class:`~sizing.common.errors.SolverError` when the solver found no
-        verified design and could not show the set infeasible either.
+        ``twin``: work on :meth:`twin` of the step's problem (another thread may be
+        solving with the problem itself). Raises
+        :class:`~sizing.common.errors.SolverError` when the solver found no verified
+        design and could not show the set infeasible either.
         """
+        prob = self.twin(step.problem) if twin else step.problem
         if step.verified:
-            return step.problem.package(step.x, step.lam_g, step.p, step.stats, True, step.spec)
+            return prob.package(step.x, step.lam_g, step.p, step.stats, True, step.spec)
         from ..problem.diagnose import diagnose
 
-        return diagnose(step.problem, step.p, dict(step.stats), step.spec)
+        return diagnose(prob, step.p, dict(step.stats), step.spec)
+
+    def twin(self, prob) -> Problem:
+        """A second built problem identical to ``prob`` (same file, so the same scales) for the
+        follow-up thread; built on first use and kept while ``prob`` is."""
+        twin = self._twins.get(id(prob))
+        if twin is None or twin[0] is not prob:
+            twin = self._twins[id(prob)] = (prob, Problem(prob.spec))
+        return twin[1]
 
     # ------------------------------------------------------------------- save
     def save_text(self, values) -> tuple:
@@ -337,35 +384,53 @@ def _written(v) -> str:
 
 
 # --------------------------------------------------------------------------
-# One page's state: coalesced changes solved on the shared worker thread
+# One page's state: coalesced changes, solved on one thread, followed up on another
 # --------------------------------------------------------------------------
 
-WORKER = ThreadPoolExecutor(max_workers=1, thread_name_prefix="sizing-explore")
+WORKER = ThreadPoolExecutor(max_workers=1, thread_name_prefix="sizing-explore-solve")
+FOLLOW_UP = ThreadPoolExecutor(max_workers=1, thread_name_prefix="sizing-explore-follow")
 
 
 class Session:
-    """The values of one open page and their solves (run on :data:`WORKER`).
+    """The values of one open page, their solves and follow-ups.
 
-    ``publish(kind, payload)`` receives, from the worker thread and in order:
+    Solves run on :data:`WORKER` (one thread for every page: the built problems
+    are not thread-safe); the slower follow-ups (curves, costs and margins, the
+    diagnosis) run on :data:`FOLLOW_UP` with a twin of the built problem
+    (:meth:`Explorer.twin`), so a new change is solved at once even while the
+    margins of the last one are still being worked out. Changes that arrive
+    while a solve runs are coalesced (only the newest is solved), and
+    follow-ups of a superseded change are dropped.
+
+    ``publish(kind, payload)`` receives, from those threads:
     ``("refused", (key, message))`` when the changed file does not validate;
     ``("numbers", step)`` as soon as the solve is done (``step.numbers`` None
-    when no verified design was found); then, unless newer values are already
-    waiting, ``("curves", (step, data))`` and ``("result", (step, result))``,
-    or ``("failed", (step, message))`` when the solver failed.
+    when no verified design was found; ``step.serial`` counts up); then, for
+    the newest step only, ``("curves", (step, data))`` and ``("result", (step,
+    result))``, or ``("failed", (step, message))`` when the solver failed.
     """
 
-    def __init__(self, explorer: Explorer, publish, executor=None):
+    def __init__(self, explorer: Explorer, publish, executor=None, follow_up=None):
         self.explorer = explorer
         self.publish = publish
         self.executor = executor or WORKER
+        self.follow_up = follow_up or FOLLOW_UP
         self.accepted = dict(explorer.initial)       # the last values that validated
         self.warm = explorer.base_warm
         self.last_good = Numbers.of(explorer.base)  # shown (marked stale) while no design is found
-        self._pending = None
-        self._running = False
         self._lock = threading.Lock()
+        self._pending = None                         # newest change not yet solved
+        self._running = False
+        self._busy = False                           # a solve is under way
+        self._next = None                            # newest step whose follow-ups are due
+        self._following = False
+        self._serial = 0
+        self._latest = 0                             # serial of the newest step
+        self._last_step = None
+        self._followed = 0                           # serial of the newest step followed up in full
         self.log = []                                # (kind, seconds since the change) of every publish
 
+    # -------------------------------------------------------------- changes
     def request(self, values, key=None, t0=None):
         """Solve for ``values`` (all controls) soon; ``key`` names the control that changed."""
         t0 = time.perf_counter() if t0 is None else t0
@@ -375,10 +440,6 @@ class Session:
                 return None
             self._running = True
         return self.executor.submit(self._run)
-
-    def _newer(self) -> bool:
-        with self._lock:
-            return self._pending is not None
 
     def _emit(self, kind, payload, t0):
         self.log.append((kind, time.perf_counter() - t0))
@@ -391,36 +452,88 @@ class Session:
                 if job is None:
                     self._running = False
                     return
+                self._busy = True
             try:
                 self._solve(*job)
             except Exception as e:  # noqa: BLE001 - a worker never dies silently: the page says what broke
                 self._emit("failed", (None, f"{type(e).__name__}: {e}"), job[2])
+            finally:
+                with self._lock:
+                    self._busy = False
 
     def _solve(self, values, key, t0):
-        ex = self.explorer
         try:
-            step = ex.quick(values, self.warm, t0)
+            step = self.explorer.quick(values, self.warm, t0)
         except InputError as e:
+            with self._lock:
+                self._busy = False
             self._emit("refused", (key, e.message), t0)
+            with self._lock:            # the shown state stands: finish its follow-ups if they were dropped
+                redo = self._last_step if self._last_step is not None and self._followed < self._latest else None
+            if redo is not None:
+                self._follow(redo)
             return
         self.accepted = dict(values)
         if step.verified:
             self.warm = step.warm
             self.last_good = step.numbers
+        with self._lock:
+            self._serial += 1
+            step.serial = self._latest = self._serial
+            self._last_step = step
+            self._busy = False
         self._emit("numbers", step, t0)
-        if self._newer():
-            return
-        if step.verified:
-            self._emit("curves", (step, ex.curves(step)), t0)
-            if self._newer():
+        self._follow(step)
+
+    # ----------------------------------------------------------- follow-ups
+    def _follow(self, step):
+        with self._lock:
+            self._next = step
+            if self._following:
                 return
-        try:
-            result = ex.complete(step)
-        except SizingError as e:
-            self._emit("failed", (step, str(e)), t0)
-            if not step.verified and not self._newer():
-                self._emit("curves", (step, ex.curves(step)), t0)
+            self._following = True
+        self.follow_up.submit(self._run_follow_ups)
+
+    def _superseded(self, step) -> bool:
+        with self._lock:
+            return step.serial < self._latest or self._pending is not None or self._busy or self._next is not None
+
+    def _run_follow_ups(self):
+        while True:
+            with self._lock:
+                step, self._next = self._next, None
+                if step is None:
+                    self._following = False
+                    return
+            try:
+                self._follow_up(step)
+            except Exception as e:  # noqa: BLE001 - the page says what broke
+                self._emit("failed", (step, f"{type(e).__name__}: {e}"), step.t0)
+
+    def _follow_up(self, step):
+        ex = self.explorer
+        if step.verified:
+            if self._superseded(step):
+                return
+            self._emit("curves", (step, ex.curves(step)), step.t0)
+        if self._superseded(step):
             return
-        self._emit("result", (step, result), t0)
-        if not step.verified and not self._newer():
-            self._emit("curves", (step, ex.curves(step, result)), t0)
+        try:
+            result = ex.complete(step, twin=True)
+        except SizingError as e:
+            if not self._superseded(step):
+                self._emit("failed", (step, str(e)), step.t0)
+                if not step.verified:
+                    self._emit("curves", (step, ex.curves(step)), step.t0)
+            self._done(step)
+            return
+        if self._superseded(step):
+            return
+        self._emit("result", (step, result), step.t0)
+        if not step.verified:
+            self._emit("curves", (step, ex.curves(step, result)), step.t0)
+        self._done(step)
+
+    def _done(self, step):
+        with self._lock:
+            self._followed = max(self._followed, step.serial)

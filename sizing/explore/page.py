@@ -49,6 +49,23 @@ def _e(text) -> str:
     return html.escape(str(text))
 
 
+class _Html:
+    """A Div whose content sits in an element with a known id (what tests and styles reach;
+    Bokeh renders a Div's HTML inside its shadow root)."""
+
+    def __init__(self, div, inner_id):
+        self.div, self.inner_id, self._text = div, inner_id, ""
+
+    @property
+    def text(self):
+        return self._text
+
+    @text.setter
+    def text(self, value):
+        self._text = value
+        self.div.text = f"<div id='{self.inner_id}'>{value}</div>"
+
+
 class Page:
     """The widgets of one tab and their updates (all on the server's event loop)."""
 
@@ -63,7 +80,6 @@ class Page:
         self.widgets = {}                 # key -> (slider, number box, message)
         self._syncing = False
         self._shown = 0                   # newest step shown (older answers are dropped)
-        self._steps = 0
         self._pending_save = None
 
         base = explorer.base
@@ -73,16 +89,16 @@ class Page:
                          f"<div class='muted'>what-if page for {_e(explorer.path)} · sha256 "
                          f"{_e(explorer.spec.sha256[:12] or 'n/a')} · move a value: the design follows</div>",
                     stylesheets=[self.css], width=1200)
-        caution = Div(text=f"<div style='{CAUTION_CSS}'>{_e(CAUTION)}</div>", width=1200, html_id="caution")
-        self.status = Div(text="", stylesheets=[self.css], width=780, html_id="status")
-        self.panel = Div(text="", stylesheets=[self.css], width=400, html_id="panel")
-        self.numbers_div = Div(text="", stylesheets=[self.css], width=400, html_id="numbers")
+        caution = Div(text=f"<div style='{CAUTION_CSS}' id='caution-text'>{_e(CAUTION)}</div>", width=1200)
+        self.status = _Html(Div(text="", stylesheets=[self.css], width=780), "status")
+        self.panel = _Html(Div(text="", stylesheets=[self.css], width=400), "panel")
+        self.numbers_div = _Html(Div(text="", stylesheets=[self.css], width=400), "numbers")
 
         groups = self._controls()
         controls = column(*groups, width=410, height=720, styles={"overflow-y": "auto", "padding-right": "6px"})
         reset = Button(label="Reset to the file's values", width=210, html_id="reset")
         reset.on_click(self.reset)
-        self.target = TextInput(value=str(explorer.default_target()), width=430, title="save as",
+        self.target = TextInput(value=str(explorer.default_target()), width=400, title="save as",
                                 html_id="save-path")
         save = Button(label="Save as YAML", button_type="primary", width=130, html_id="save")
         save.on_click(self.save)
@@ -91,10 +107,14 @@ class Page:
         self.confirm.on_click(partial(self.save, overwrite=True))
         self.cancel = Button(label="Cancel", width=80, visible=False, html_id="cancel-overwrite")
         self.cancel.on_click(self._cancel_save)
-        self.save_msg = Div(text="", stylesheets=[self.css], width=780, html_id="save-message")
-        actions = row(reset, self.target, column(Div(text="&nbsp;"), row(save, self.confirm, self.cancel)))
-        middle = column(self.view.fig, self.status, actions, self.save_msg)
-        right = column(self.numbers_div, self.panel)
+        self.save_msg = _Html(Div(text="", stylesheets=[self.css], width=560), "save-message")
+        actions = row(reset, self.target, column(Div(text="&nbsp;"), save))
+        key = Div(text="<span class='muted'>blue: meets every requirement · grey: the weight does not close · "
+                       "dashed: constant takeoff mass (black: the design's) · thick: drivers · hover a line for its "
+                       "values, click a legend entry to hide it</span>", stylesheets=[self.css], width=780)
+        middle = column(self.view.fig, key, self.status.div, actions,
+                        row(self.save_msg.div, self.confirm, self.cancel))
+        right = column(self.numbers_div.div, self.panel.div)
         doc.add_root(column(title, caution, row(controls, middle, right)))
         doc.title = f"sizing explore · {explorer.spec.title}"
         self._show_numbers(Numbers.of(base), stale=False)
@@ -129,12 +149,12 @@ class Page:
                             width=250, html_id=f"slider-{slug}", margin=(0, 5, 0, 5))
             box = Spinner(value=c.value, step=step, width=110, html_id=f"value-{slug}", margin=(0, 5, 0, 5),
                           format="0[.][000000]")
-            msg = Div(text="", visible=False, stylesheets=[self.css], width=380, html_id=f"msg-{slug}",
-                      styles={"color": "#bb2233", "font-size": "12px"})
+            msg = _Html(Div(text="", visible=False, stylesheets=[self.css], width=380,
+                            styles={"color": "#bb2233", "font-size": "12px"}), f"msg-{slug}")
             slider.on_change("value", partial(self._changed, c.key, "slider"))
             box.on_change("value", partial(self._changed, c.key, "box"))
             self.widgets[c.key] = (slider, box, msg)
-            out.append(column(label, row(slider, box), msg, spacing=0))
+            out.append(column(label, row(slider, box), msg.div, spacing=0))
         return out
 
     def _set_widgets(self, key, value):
@@ -152,7 +172,8 @@ class Page:
 
     def _say_at(self, key, text):
         msg = self.widgets[key][2]
-        msg.update(text=_e(text) if text else "", visible=bool(text))
+        msg.text = _e(text) if text else ""
+        msg.div.visible = bool(text)
 
     def _changed(self, key, _source, _attr, _old, new):
         if self._syncing:
@@ -198,16 +219,16 @@ class Page:
             return
         step = payload if kind == "numbers" else payload[0]
         if kind == "numbers":
-            self._steps += 1
-            step.serial = self._steps
-            self._shown = step.serial
+            self._shown = max(self._shown, step.serial)
             now = time.perf_counter()
             t = step.timings
+            what = "design numbers" if step.numbers is not None else "no verified design found"
             self.status.text = (
-                f"design numbers <b><span id='latency-ms'>{(now - step.t0) * 1000:.1f}</span> ms</b> after the "
+                f"{what} <b><span id='latency-ms'>{(now - step.t0) * 1000:.1f}</span> ms</b> after the "
                 f"change, server side (validate {t['validate'] * 1000:.1f}, solve {t['solve'] * 1000:.1f} ms, "
                 f"IPOPT {_e(step.stats.get('return_status'))}, {step.stats.get('iterations')} iterations); "
-                f"curves, costs and margins follow")
+                + ("curves, costs and margins follow" if step.numbers is not None else
+                   "the diagnosis follows"))
             if step.numbers is not None:
                 self._show_numbers(step.numbers, stale=False)
                 self.view.point(step.numbers)

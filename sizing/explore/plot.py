@@ -52,11 +52,12 @@ class DiagramView:
         fig.grid.grid_line_color = "#d9d9d9"
         fig.axis.axis_label_text_font_style = "normal"
         fig.axis.axis_label_text_font_size = "13px"
+        self.feasible = ColumnDataSource(dict(x=[], y1=[], y2=[]))
+        fig.varea(source=self.feasible, x="x", y1="y1", y2="y2", fill_color=FEASIBLE_FILL, level="underlay")
+        # grey over blue: where the weight does not close, no design exists whatever the requirements say
         self.no_closure = ColumnDataSource(dict(xs=[], ys=[]))
         fig.multi_polygons(source=self.no_closure, xs="xs", ys="ys", fill_color=NO_CLOSURE_FILL, line_color=None,
                            level="underlay")
-        self.feasible = ColumnDataSource(dict(x=[], y1=[], y2=[]))
-        fig.varea(source=self.feasible, x="x", y1="y1", y2="y2", fill_color=FEASIBLE_FILL, level="underlay")
         self.mass = ColumnDataSource(dict(xs=[], ys=[], colour=[], width=[]))
         fig.multi_line(source=self.mass, xs="xs", ys="ys", line_color="colour", line_width="width",
                        line_dash=[6, 4])
@@ -114,12 +115,12 @@ class DiagramView:
     def show(self, data, active=None):
         """Draw a DiagramData: curves, limits, regions, mass lines (the design point: :meth:`point`)."""
         fig = self.fig
-        if data.design is not None:
-            x, y = data.design[0], data.design[1]
-            (x0, x1), (y0, y1) = self._view()
-            if not (x0 <= x <= x1 and y0 <= y <= y1):
-                fig.x_range.update(start=data.x_range[0], end=data.x_range[1])
-                fig.y_range.update(start=data.y_range[0], end=data.y_range[1])
+        (x0, x1), (y0, y1) = self._view()
+        # the view stays put while the design point is in it (before and after compare at a
+        # glance); it follows the data when the point leaves it or there is no design
+        if data.design is None or not (x0 <= data.design[0] <= x1 and y0 <= data.design[1] <= y1):
+            fig.x_range.update(start=data.x_range[0], end=data.x_range[1])
+            fig.y_range.update(start=data.y_range[0], end=data.y_range[1])
         xr, yr = self._view()
         placer = _Placer(xr, yr, fig.width - 235, fig.height - 105)
         if data.design is not None:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import signal
 import socket
+import sys
 import threading
 from functools import partial
 
@@ -47,6 +48,7 @@ def serve(path, port=DEFAULT_PORT, address="127.0.0.1", say=print) -> int:
     if not 0 <= port <= 65535:
         raise InputError(f"port {port} is not a TCP port (0 to 65535; 0 picks a free one)", field="--port")
     port = free_port(address, port)          # before the (slower) build: a taken port is said at once
+    sys.setswitchinterval(0.001)             # a solve waits at most 1 ms for the follow-up thread's turn
     say(f"loading {path} and building its sizing problem…", flush=True)
     explorer = Explorer(path)
     origins = [f"{address}:{port}"] + ([f"localhost:{port}"] if address == "127.0.0.1" else [])
