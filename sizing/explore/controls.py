@@ -235,8 +235,8 @@ def round_to(v: float, step: float) -> float:
 def number_text(v: float) -> str:
     """A number as a file writes it: no trailing zeros, and exactly the same number when read back.
 
-    >>> number_text(95.0), number_text(0.30000000000000004), number_text(1.5e-05)
-    ('95', '0.3', '1.5e-05')
+    >>> number_text(95.0), number_text(92.5), number_text(1.5e-05), number_text(0.1 + 0.2)
+    ('95', '92.5', '1.5e-05', '0.30000000000000004')
     """
     text = format(float(v), ".10g")
     return text if float(text) == float(v) else repr(float(v))

@@ -21,7 +21,7 @@ from functools import partial
 from ..common.caution import CAUTION
 from ..common.errors import InputError, SizingError
 from ..reports.summary import cost_line, relaxation_heading, relaxation_text
-from .controls import shown
+from .controls import round_to, shown
 from .engine import Explorer, NeedsConfirmation, Numbers, Session
 from .plot import DiagramView
 
@@ -175,13 +175,15 @@ class Page:
         msg.text = _e(text) if text else ""
         msg.div.visible = bool(text)
 
-    def _changed(self, key, _source, _attr, _old, new):
+    def _changed(self, key, source, _attr, _old, new):
         if self._syncing:
             return
         t0 = time.perf_counter()
         if new is None:
             self._set_widgets(key, self.wanted[key])
             return
+        if source == "slider":                    # 84.99999999 from the slider's float steps is 85
+            new = round_to(float(new), self.widgets[key][0].step)
         why = self.ex.refusal(key, new)
         if why:
             self._set_widgets(key, self.wanted[key])
@@ -205,7 +207,10 @@ class Page:
     def _publish(self, kind, payload):
         """Called on the worker thread: hand the answer to the event loop (Bokeh's thread-safe way)."""
         t_ready = time.perf_counter()
-        self.doc.add_next_tick_callback(partial(self._apply, kind, payload, t_ready))
+        try:
+            self.doc.add_next_tick_callback(partial(self._apply, kind, payload, t_ready))
+        except Exception:  # noqa: BLE001 - the tab was closed meanwhile: nobody to tell
+            pass
 
     def _apply(self, kind, payload, t_ready):
         if kind == "refused":
@@ -292,9 +297,19 @@ class Page:
             f"<td class='o'>{_e(r.detail)}</td></tr>" for r in res.requirements)
         edge = (f"<p><span class='warn badge'>NOTE</span> the optimum lies on the edge of the search region "
                 f"({_e(', '.join(res.on_edge))})</p>" if res.on_edge else "")
+        fuel = ""
+        if res.fuel_breakdown:
+            rows = [(name, f"W1/W0 {f:.4f}", f"{mf:,.0f} kg") for name, f, mf in res.fuel_breakdown]
+            extra = res.design.fuel_mass - sum(mf for _, _, mf in res.fuel_breakdown)
+            if extra > 0.5:
+                rows.append(("reserve and trapped fuel", "", f"{extra:,.0f} kg"))
+            rows.append(("total", "", f"{res.design.fuel_mass:,.0f} kg"))
+            fuel = ("<h3>Mission fuel by segment</h3><table class='nums'>" + "".join(
+                f"<tr><td>{_e(a)}</td><td class='o'>{_e(b)}</td><td class='v'>{_e(c)}</td></tr>" for a, b, c in rows)
+                + "</table>")
         self.panel.text = (f"{edge}<h3>Drivers and what each costs</h3><ul id='costs'>{costs}</ul>"
                            + (f"<h3>Other costs</h3><ul>{other}</ul>" if other else "")
-                           + f"<h3>Margins</h3><table class='nums' id='margins'>{margins}</table>")
+                           + f"<h3>Margins</h3><table class='nums' id='margins'>{margins}</table>{fuel}")
 
     # ------------------------------------------------------------------- save
     def save(self, overwrite=False):

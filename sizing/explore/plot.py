@@ -80,10 +80,10 @@ class DiagramView:
             self.curves[c.id], self.marks[c.id], self.limits[c.id] = (src, line), msrc, (lsrc, lim)
             items.append(LegendItem(label=c.id, renderers=[line, mk, lim]))
             hover += [line, lim]
-        self.curve_labels = ColumnDataSource(dict(x=[], y=[], text=[], colour=[], weight=[]))
+        self.curve_labels = ColumnDataSource(dict(x=[], y=[], text=[], colour=[], weight=[], align=[], dx=[]))
         fig.text(source=self.curve_labels, x="x", y="y", text="text", text_color="colour", text_font_size="12px",
-                 text_font_style=dict(field="weight"), text_align="left", text_baseline="bottom", x_offset=4, y_offset=-2,
-                 background_fill_color="white", background_fill_alpha=0.8)
+                 text_font_style=dict(field="weight"), text_align=dict(field="align"), text_baseline="bottom",
+                 x_offset=dict(field="dx"), y_offset=-2, background_fill_color="white", background_fill_alpha=0.8)
         self.design = ColumnDataSource(dict(x=[], y=[]))
         fig.scatter(source=self.design, x="x", y="y", size=17, marker="circle", fill_color="white",
                     line_color=DESIGN_COLOUR, line_width=2.6)
@@ -127,7 +127,7 @@ class DiagramView:
             placer.take_design(data.design[0], data.design[1])
         active = {c.id for c in data.curves if c.active} if active is None else set(active)
         clip = yr[1] + 2.0 * (yr[1] - yr[0])
-        labels = dict(x=[], y=[], text=[], colour=[], weight=[])
+        labels = dict(x=[], y=[], text=[], colour=[], weight=[], align=[], dx=[])
 
         def label(spot, text, colour, bold):
             labels["x"].append(spot[0])
@@ -135,6 +135,8 @@ class DiagramView:
             labels["text"].append(text)
             labels["colour"].append(colour)
             labels["weight"].append("bold" if bold else "normal")
+            labels["align"].append(spot[2])
+            labels["dx"].append(4 if spot[2] == "left" else -4)
 
         for c in sorted(data.curves, key=lambda c: (c.id not in active, c.index)):
             colour = curve_style(c.index)[0]
@@ -163,8 +165,9 @@ class DiagramView:
                 lsrc.data = dict(x=[c.boundary, c.boundary], y=[yr[0] - 10 * (yr[1] - yr[0]), clip],
                                  id=[c.id if c.thrust is None else f"{c.id} (CLmax)"] * 2)
                 lim.glyph.line_width = width if c.thrust is None else 1.4
-                cands = [(c.boundary, yr[0] + f * (yr[1] - yr[0])) for f in (0.93, 0.86, 0.79, 0.72, 0.65, 0.3, 0.2)]
-                spot = placer.place(cands, text, 12, "left")
+                heights = [yr[0] + f * (yr[1] - yr[0]) for f in (0.93, 0.86, 0.79, 0.72, 0.65, 0.3, 0.2)]
+                spot = placer.place([(c.boundary, h) for h in heights], text, 12, "left") or \
+                    placer.place([(c.boundary, h) for h in heights], text, 12, "right")   # left of the line
                 if spot is not None:
                     label(spot, text, colour, c.id in active and c.thrust is None)
             else:
@@ -282,6 +285,8 @@ class _Placer:
         w, h = 0.58 * size * len(text) + 6, 1.35 * size
         if align == "center":
             return px - w / 2, py - h / 2, px + w / 2, py + h / 2
+        if align == "right":
+            return px - 2 - w, py, px - 2, py + h
         return px + 2, py, px + 2 + w, py + h
 
     def _free(self, b):
@@ -298,5 +303,5 @@ class _Placer:
             b = self._box(x, y, text, size, align)
             if self._free(b):
                 self.boxes.append(b)
-                return x, y
+                return x, y, align
         return None
