@@ -168,7 +168,7 @@ def test_control_values_units_and_refusals():
     cs = {c.key: c for c in controls_of(spec, Problem(spec).paths)}
     stall = cs["requirements.approach-stall.speed"]
     assert (stall.value, stall.unit, stall.group) == (100.0, "kn", "approach-stall")
-    # Source: 1 kn = 1852/3600 m/s (exact, NIST SP 811 B.8)
+    # Source: NIST SP 811 App. B, 1 kn = 1852/3600 m/s exactly (docs/references.md check 16-a)
     assert stall.scale == pytest.approx(1852.0 / 3600.0, rel=1e-12)
     assert stall.raw(95) == "95 kn" and stall.raw(92.5) == "92.5 kn"
     assert "outside the range" in cs["requirements.turn-4g.load_factor"].refusal(15.5)
