@@ -63,7 +63,7 @@ def closure(tree, W, Y, propeller):
         f_fuel = np.asarray(Wt.fuel_fraction(tree, ac, W)) + 0 * W
         m = np.full_like(W, 3 * fixed)
         for _ in range(200):
-            f_e = np.asarray(Wt.empty_fraction(w, tree["aircraft"], m, W, Y, propeller)) + 0 * W
+            f_e = np.asarray(Wt.empty_fraction_of(tree, m, W, Y, propeller)) + 0 * W
             den = 1 - f_fuel - f_e
             m_new = np.where(den > 0.01, fixed / den, np.inf)
             if np.allclose(m_new, m, rtol=1e-13, equal_nan=True):

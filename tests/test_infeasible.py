@@ -338,8 +338,7 @@ def assert_meets_everything(spec, res):
             assert W[0] <= lim[0] * (1 + 1e-6), (rr.id, W[0], lim[0])
         assert rr.margin >= 0
     # the weight closes: empty + fuel + crew + payload = takeoff mass (Raymer Eq. 3.4, from memory)
-    f_e = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], d.takeoff_mass, d.wing_loading,
-                            Y, res.propeller)
+    f_e = Wt.empty_fraction_of(tree, d.takeoff_mass, d.wing_loading, Y, res.propeller)
     f_f = Wt.fuel_fraction(tree, ac, d.wing_loading)
     assert d.takeoff_mass * (1 - float(f_e) - float(f_f)) == pytest.approx(d.crew_mass + d.payload_mass,
                                                                           rel=1e-5)

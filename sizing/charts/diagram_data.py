@@ -144,7 +144,7 @@ def closure_mass_grid(spec, W_S, Y, iterations=80, residual=False):
         mass = np.full_like(WW, 3.0 * fixed)
         prev = mass
         for _ in range(iterations):
-            f_e = np.asarray(Wt.empty_fraction(w, tree["aircraft"], mass, WW, YY, spec.is_propeller), float)
+            f_e = np.asarray(Wt.empty_fraction_of(tree, mass, WW, YY, spec.is_propeller), float)
             rest = 1.0 - f_fuel - f_e
             prev, mass = mass, np.where(rest > 1e-3, fixed / rest, np.nan)
             mass = np.clip(mass, fixed, 1e4 * fixed)

@@ -46,17 +46,40 @@ def units_for(name: str, propeller: bool) -> DisplayUnits:
 FORMATS = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
 
 
-def figure_bytes(fig, fmt="png", dpi=DPI) -> bytes:
-    """Render a figure to PNG/SVG/PDF bytes (SVG/PDF keep text as text, no timestamps)."""
+def figure_bytes(fig, fmt="png", dpi=DPI, tight=False) -> bytes:
+    """Render a figure to PNG/SVG/PDF bytes (SVG/PDF keep text as text, no timestamps);
+    ``tight``: crop to the drawn artists (footers placed below the axes)."""
     import matplotlib
 
     meta = {"png": {"Software": None}, "svg": {"Date": None}, "pdf": {"CreationDate": None}}[fmt]
     buf = io.BytesIO()
     with matplotlib.rc_context({"svg.fonttype": "none", "pdf.fonttype": 42, "svg.hashsalt": "sizing"}):
-        fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta)
+        fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta,
+                    **({"bbox_inches": "tight", "pad_inches": 0.15} if tight else {}))
     return buf.getvalue()
 
 
 def curve_style(i):
     """(colour, marker, line style) of the i-th requirement of a file."""
     return PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)], LINESTYLES[(i // len(PALETTE)) % len(LINESTYLES)]
+
+
+def new_axes(figsize=(10.0, 6.6), rect=(0.085, 0.2, 0.83, 0.68)):
+    """A new Agg figure (no pyplot) with one axes at ``rect`` (figure fractions)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=figsize, dpi=DPI)
+    FigureCanvasAgg(fig)
+    return fig.add_axes(rect)
+
+
+def add_footer(ax, lines, width=150, below=44.0, fontsize=None):
+    """Notes and the caution, wrapped, under an axes (``below`` points under its lower edge,
+    clear of the tick labels and the axis label); save with ``tight=True``."""
+    import textwrap
+
+    text = "\n".join(w for line in lines if line for w in textwrap.wrap(line, width))
+    return ax.annotate(text, xy=(0.0, 0.0), xycoords="axes fraction", xytext=(-30.0, -below),
+                       textcoords="offset points", ha="left", va="top", fontsize=fontsize or FONT["footer"],
+                       color="#333333", annotation_clip=False)

@@ -14,7 +14,18 @@ from pydantic import Field, field_validator, model_validator
 
 from ..common.errors import FieldError
 from . import units
-from .fields import ArealMass, EngineMass, Fraction, LiftCoefficient, MachNumber, Mass, Number, Speed, Strict
+from .fields import (
+    ArealMass,
+    EngineMass,
+    Fraction,
+    LiftCoefficient,
+    LoadFactor,
+    MachNumber,
+    Mass,
+    Number,
+    Speed,
+    Strict,
+)
 from .fields import positive as _positive
 from .fields import within as _within
 
@@ -84,6 +95,26 @@ class Aerodynamics(Strict):
     cl_max: CLMax
     takeoff_drag_increment: Number = 0.0
     landing_drag_increment: Number = 0.0
+    cl_min: Optional[Number] = Field(None, description="negative maximum lift coefficient, clean (V-n chart); "
+                                                       "default -0.8 x cl_max.clean")
+    lift_curve_slope: Optional[Number] = Field(None, description="wing lift-curve slope per radian (gust loads); "
+                                                                 "default the Helmbold-DATCOM formula")
+
+    @field_validator("cl_min")
+    @classmethod
+    def _cl_min(cls, v):
+        if v is not None and not (-3.0 <= v <= -0.1):
+            raise ValueError(f"cl_min {v:g} must be a negative lift coefficient between -3 and -0.1 "
+                             f"(the clean wing's negative CLmax)")
+        return v
+
+    @field_validator("lift_curve_slope")
+    @classmethod
+    def _slope(cls, v):
+        if v is not None and not (1.0 <= v <= 7.0):
+            raise ValueError(f"lift_curve_slope {v:g} per radian is outside 1 to 7 (2 pi = 6.28 is the "
+                             f"thin-airfoil value; a value per degree such as 0.08 is 4.58 per radian)")
+        return v
 
     @field_validator("cd0")
     @classmethod
@@ -155,14 +186,34 @@ class SpeedLimit(Strict):
         return self
 
 
+class WingLoadFactor(Strict):
+    reference: LoadFactor = Field(description="limit load factor at which the wing mass is given")
+    exponent: Number = Field(0.5, description="exponent of the load-factor ratio (Raymer's wing-mass "
+                                              "equations: 0.49 general aviation, 0.5 fighter, 0.557 transport)")
+    wing_share: Optional[Fraction] = Field(None, description="statistical model only: share of the empty "
+                                                             "mass in the wing at the reference load factor")
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        _within("reference", self.reference, 1.5, 12.0, "1.5 to 12 (a limit load factor)")
+        _within("exponent", self.exponent, 0.0, 1.5)
+        if self.wing_share is not None and not (0.0 < self.wing_share < 1.0):
+            raise FieldError("wing_share", f"wing_share {self.wing_share:g} must lie between 0 and 1")
+        return self
+
+
 class EmptyComponents(Strict):
     model: Literal["components"]
     wing: ArealMass
     propulsion: EngineMass
     other: Fraction
+    wing_load_factor: Optional[WingLoadFactor] = None
 
     @model_validator(mode="after")
     def _ranges(self):
+        if self.wing_load_factor is not None and self.wing_load_factor.wing_share is not None:
+            raise FieldError(("wing_load_factor", "wing_share"), "wing_share is for the statistical model; "
+                             "the components model scales its wing term (wing) directly")
         _positive("wing", self.wing, 1000.0)
         _positive("propulsion", self.propulsion)
         if not (0.0 <= self.other < 1.0):
@@ -191,9 +242,13 @@ class EmptyStatistical(Strict):
     b: Optional[Number] = Field(None, description="refined form: b of We/W0 = a + b W0^C1 A^C2 (T/W)^C3 (W/S)^C4 M^C5")
     exponents: Optional[list[Number]] = Field(None, description="refined form: C1..C5")
     max_mach: Optional[MachNumber] = None
+    wing_load_factor: Optional[WingLoadFactor] = None
 
     @model_validator(mode="after")
     def _given(self):
+        if self.wing_load_factor is not None and self.wing_load_factor.wing_share is None:
+            raise FieldError(("wing_load_factor", "wing_share"), "the statistical model has no wing term: "
+                             "give wing_share, the share of the empty mass in the wing (e.g. 0.15)")
         from ..weights.empty import STATISTICAL_PRESETS
         if self.preset is not None and self.preset not in STATISTICAL_PRESETS:
             near = difflib.get_close_matches(self.preset, list(STATISTICAL_PRESETS), 1)
@@ -227,20 +282,51 @@ class Weights(Strict):
     payload: Mass = Field(default_factory=lambda: units.parse("0 kg", "mass"))
     empty: Empty
     fuel: Fuel = Field(default_factory=Fuel)
+    max_fuel: Optional[Mass] = Field(None, description="usable fuel capacity (payload-range); default the design fuel")
+    max_payload: Optional[Mass] = Field(None, description="maximum payload (payload-range); default the design payload")
 
     @model_validator(mode="after")
     def _fixed(self):
         for name in ("crew", "payload"):
             if not getattr(self, name).si >= 0:
                 raise FieldError(name, f"{name} cannot be negative, got {getattr(self, name).text}")
+        _positive("max_fuel", self.max_fuel, 1.0e6)
+        if self.max_payload is not None and not self.max_payload.si >= self.payload.si:
+            raise FieldError("max_payload", f"max_payload {self.max_payload.text} is below the design payload "
+                                            f"{self.payload.text}; the design must carry its own payload")
         if not self.crew.si + self.payload.si > 0:
             raise FieldError("payload", "crew plus payload must be positive: it is what the weight "
                                         "closure scales")
         return self
 
 
+class DesignSpeeds(Strict):
+    cruise: Optional[Speed] = Field(None, description="design cruising speed VC, equivalent airspeed")
+    dive: Optional[Speed] = Field(None, description="design dive speed VD, equivalent airspeed")
+
+    @model_validator(mode="after")
+    def _order(self):
+        _positive("cruise", self.cruise, 400.0)
+        _positive("dive", self.dive, 500.0)
+        if self.cruise is not None and self.dive is not None and not self.dive.si > self.cruise.si:
+            raise FieldError("dive", f"dive {self.dive.text} must be above cruise {self.cruise.text} "
+                                     f"(the rules ask VD >= 1.25 VC: 14 CFR 23.335(b), 25.335(b))")
+        return self
+
+
 class Aircraft(Strict):
+    category: Optional[Literal["normal", "utility", "acrobatic", "transport"]] = Field(
+        None, description="load-factor category (14 CFR 23.337 / 25.337); default from the takeoff mass")
+    design_speeds: Optional[DesignSpeeds] = None
     aerodynamics: Aerodynamics
     propulsion: Propulsion
     speed_limit: Optional[SpeedLimit] = None
     weights: Weights
+
+    @model_validator(mode="after")
+    def _load_factor_needs_category(self):
+        if getattr(self.weights.empty, "wing_load_factor", None) is not None and self.category is None:
+            raise FieldError(("weights", "empty", "wing_load_factor"), "wing_load_factor scales the wing mass "
+                             "with the design's limit load factor, which comes from aircraft.category: "
+                             "give category (normal, utility, acrobatic or transport)")
+        return self

@@ -222,8 +222,7 @@ def closure_explanation(prob, p) -> str:
         fixed = prob.fixed_mass(tree)
         Ymin = prob.Y_bounds[0]
         for mass in (fixed, 3 * fixed, 10 * fixed, 100 * fixed, 1000 * fixed):
-            f_e = np.asarray(Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], mass, W,
-                                                Ymin, prob.propeller)) + 0 * W
+            f_e = np.asarray(Wt.empty_fraction_of(tree, mass, W, Ymin, prob.propeller)) + 0 * W
             tot = np.where(np.isfinite(f_fuel + f_e), f_fuel + f_e, np.inf)
             i = int(np.argmin(tot))
             if best is None or tot[i] < best[0]:

@@ -117,7 +117,7 @@ class Problem:
         segs = Wt.mission_fractions(tree, ac, W_S) if Wt.has_mission_fuel(tree) else None
         seg_end = Wt.segment_end_fractions(tree, ac, W_S, segs)
         f_fuel = Wt.fuel_fraction(tree, ac, W_S, segs)
-        f_empty = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], m_TO, W_S, Y, self.propeller)
+        f_empty = Wt.empty_fraction_of(tree, m_TO, W_S, Y, self.propeller)
         rows, vals = [], []
         for rid in self.req_ids:
             r = tree["requirements"][rid]

@@ -51,7 +51,7 @@ def scan(prob, p, n=48):
         mass = np.full_like(W, 3.0 * fixed)
         closes = np.ones_like(W, dtype=bool)
         for _ in range(30):
-            f_e = Wt.empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], mass, W, Y_need, prob.propeller)
+            f_e = Wt.empty_fraction_of(tree, mass, W, Y_need, prob.propeller)
             closes = 1 - f_fuel - f_e > 0.01
             mass = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
             mass = np.clip(mass, fixed, 1000 * fixed)     # a finite start for the next step

@@ -8,7 +8,15 @@ symbols.
 May import: ``sizing.physics`` and ``sizing.common`` only.
 """
 from .closure import closure_mass
-from .empty import STATISTICAL_PRESETS, empty_fraction, empty_fraction_power_law, empty_fraction_refined
+from .empty import (
+    STATISTICAL_PRESETS,
+    design_load_factor,
+    empty_fraction,
+    empty_fraction_of,
+    empty_fraction_power_law,
+    empty_fraction_refined,
+    required_load_factors,
+)
 from .mission import (
                       breguet_cruise_fraction,
                       breguet_loiter_fraction,
@@ -20,5 +28,5 @@ from .mission import (
 )
 
 __all__ = ["STATISTICAL_PRESETS", "breguet_cruise_fraction", "breguet_loiter_fraction", "closure_mass",
-           "empty_fraction", "empty_fraction_power_law", "empty_fraction_refined", "fuel_fraction",
+           "design_load_factor", "empty_fraction", "empty_fraction_of", "required_load_factors", "empty_fraction_power_law", "empty_fraction_refined", "fuel_fraction",
            "fuel_fraction_from_segments", "has_mission_fuel", "mission_fractions", "segment_end_fractions"]

@@ -4,6 +4,14 @@
 ``fraction``: m_empty/m_TO fixed;
 ``statistical``: Raymer's regressions (Table 3.1 power law, Table 6.1
 refined form), fitted in pounds: W0 is converted at the edge.
+Optionally (``wing_load_factor``) the wing mass follows the design's limit load
+factor: the components wing term, or a ``wing_share`` of the statistical empty
+mass, times (n/n_ref)^x, n the larger of the category's limit load factor
+(14 CFR 23.337 / 25.337, :mod:`sizing.physics.loads`) and every load factor the
+requirements and mission segments ask for. Raymer's statistical wing-mass
+equations carry the ultimate load factor N_z with exponents 0.49 (general
+aviation), 0.5 (fighter/attack) and 0.557 (cargo/transport) (Raymer §15.3,
+Eqs. 15.1, 15.25, 15.46; from memory).
 All functions evaluate on floats, arrays and CasADi symbols.
 """
 from __future__ import annotations
@@ -11,6 +19,7 @@ from __future__ import annotations
 from ..common.conversions import HP, LB, LBF_FT2, N_PER_LBF
 from ..physics import shim as m
 from ..physics.atmosphere import g0
+from ..physics.loads import limit_load_factor
 
 # Raymer, Aircraft Design: A Conceptual Approach, Table 3.1 (We/W0 = A W0^C K_vs,
 # W0 in lb) and Table 6.1 (jets, refined: a, b, C1..C5). Source: docs/references.md §11.1-11.3.
@@ -69,18 +78,61 @@ def empty_fraction_refined(W0_lb, A, T_W, W_S_psf, M_max, a, b, C, K_vs=1.0):
             * M_max ** C5) * K_vs
 
 
-def empty_fraction(weights: dict, aircraft: dict, m_TO, W_S, Y, propeller: bool):
+def required_load_factors(tree: dict) -> list:
+    """Every load factor a requirement or a mission segment of the SI tree asks for [-]."""
+    reqs = tree.get("requirements", ())
+    reqs = reqs.values() if isinstance(reqs, dict) else reqs
+    segs = (tree.get("mission") or {}).get("segments", ())
+    return [r["load_factor"] for r in list(reqs) + list(segs) if "load_factor" in r]
+
+
+def design_load_factor(category, m_TO, load_factors=()):
+    """The design's limit load factor: the category's (at m_TO [kg]) or a higher one asked for [-].
+
+    Examples
+    --------
+    Source: 14 CFR 23.337(a)(1) (REFERENCES check case CC2): normal at 6 000 lb -> 3.6; a
+    4.0 g requirement raises it to 4.0.
+
+    >>> round(float(design_load_factor("normal", 6000 * LB)), 6), float(design_load_factor("normal", 6000 * LB, [2.0, 4.0]))
+    (3.6, 4.0)
+    """
+    n = limit_load_factor(category, m_TO)
+    for extra in load_factors:
+        n = m.fmax(n, extra)
+    return n
+
+
+def wing_load_factor_scale(empty: dict, aircraft: dict, m_TO, load_factors=()):
+    """(n/n_ref)^x of ``wing_load_factor`` (1 when the file does not ask for it) [-]."""
+    wl = empty.get("wing_load_factor")
+    if not wl:
+        return 1.0
+    n = design_load_factor(aircraft["category"], m_TO, load_factors)
+    return m.power(n / wl["reference"], wl.get("exponent", 0.5))
+
+
+def empty_fraction_of(tree: dict, m_TO, W_S, Y, propeller: bool):
+    """:func:`empty_fraction` of an SI tree (its load factors included)."""
+    return empty_fraction(tree["aircraft"]["weights"], tree["aircraft"], m_TO, W_S, Y, propeller,
+                          required_load_factors(tree))
+
+
+def empty_fraction(weights: dict, aircraft: dict, m_TO, W_S, Y, propeller: bool, load_factors=()):
     """m_empty/m_TO of the file's empty-mass model [-].
 
-    Y is T_SL/W_TO for jets, P_SL/W_TO [W/N] for propeller aircraft.
+    Y is T_SL/W_TO for jets, P_SL/W_TO [W/N] for propeller aircraft; load_factors: those the
+    requirements ask for (see :func:`required_load_factors`), for ``wing_load_factor``.
     """
     e = weights["empty"]
     model = e["model"]
     if model == "fraction":
         return e["value"] + 0.0 * m_TO
+    scale = wing_load_factor_scale(e, aircraft, m_TO, load_factors)
     if model == "components":
         # wing S / m_TO = wing g / (W/S);  engine T_SL / m_TO = propulsion g Y
-        return e["other"] + e["wing"] * g0 / W_S + e["propulsion"] * g0 * Y
+        return e["other"] + scale * e["wing"] * g0 / W_S + e["propulsion"] * g0 * Y
+    share = (1.0 + e["wing_load_factor"]["wing_share"] * (scale - 1.0)) if e.get("wing_load_factor") else 1.0
     # statistical
     coef = dict(STATISTICAL_PRESETS.get(e.get("preset"), {}))
     for key in ("a", "c", "b", "exponents"):
@@ -98,6 +150,6 @@ def empty_fraction(weights: dict, aircraft: dict, m_TO, W_S, Y, propeller: bool)
         else:
             T_W = Y
             M_max = e.get("max_mach", 0.8)
-        return empty_fraction_refined(W0_lb, A, T_W, W_S / LBF_FT2, M_max,
-                                      coef["a"], coef["b"], coef["exponents"], K_vs)
-    return empty_fraction_power_law(W0_lb, coef["a"], coef["c"], K_vs)
+        return share * empty_fraction_refined(W0_lb, A, T_W, W_S / LBF_FT2, M_max,
+                                              coef["a"], coef["b"], coef["exponents"], K_vs)
+    return share * empty_fraction_power_law(W0_lb, coef["a"], coef["c"], K_vs)
