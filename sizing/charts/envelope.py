@@ -17,11 +17,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import constraints as C
+from ..common.caution import CAUTION
 from ..common.conversions import FPM, FT, KN
 from ..common.errors import InputError
 from ..physics.atmosphere import H_MAX, isa
 from ..physics.propulsion import is_propeller
 from ..problem import tree as M
+from .coffin import CoffinCorner, Zoom, buffet_lift, coffin_corner, energy_height, zoom_ceiling
 from .performance import Boundary, Conditions, Flight, domain_mach, maximise
 
 SERVICE_CLIMB_RATE = C.SERVICE_CEILING_CLIMB_RATE      # 100 ft/min = 0.508 m/s
@@ -82,6 +84,9 @@ class Envelope:
     points: tuple
     rows: tuple
     notes: tuple = ()
+    coffin: CoffinCorner | None = None      # 1 g stall (or buffet) and Mach-limit edges, where they meet
+    zoom: Zoom | None = None                 # largest energy height of the 1 g envelope
+    energy: np.ndarray | None = None         # energy height h + V^2/(2 g0) [m] over the altitude x mach grid
 
     def to_frame(self):
         """The envelope table as a pandas DataFrame, one row per quantity."""
@@ -97,6 +102,31 @@ class Envelope:
                  f"(requirement rows at their own conditions)"]
         lines += [f"  {r['quantity']:<{w}}  {r['text']}" for r in self.rows]
         return "\n".join(lines + [f"  note: {t}" for t in self.notes])
+
+    def as_dict(self) -> dict:
+        """The JSON object of ``sizing envelope --json``: ceilings, top speeds, coffin corner, zoom (SI)."""
+        def pair(c):
+            return None if c is None else {"altitude_m": c[0], "mach": c[1]}
+
+        cc, z = self.coffin, self.zoom
+        return {
+            "title": self.title, "weight_fraction": self.weight_fraction, "wing_loading_Pa": self.wing_loading,
+            ("power_to_weight_W_per_N" if self.propeller else "thrust_to_weight"): self.power_or_thrust,
+            "absolute_ceiling": pair(self.absolute_ceiling), "service_ceiling": pair(self.service_ceiling),
+            "top_speeds": [{"altitude_m": r["altitude_m"], "mach": r["mach"], "limited_by": r["limited_by"],
+                            "text": r["text"]} for r in self.rows if r["quantity"].startswith("max Mach")],
+            "coffin_corner": None if cc is None else {
+                "low_speed_edge": cc.low_kind, "meet": pair(cc.meet),
+                "narrowest_band": None if cc.narrowest is None else dict(zip(
+                    ("altitude_m", "width_mach", "width_tas_m_s", "low_mach", "high_mach"), cc.narrowest)),
+                "searched_up_to_m": cc.top_altitude,
+                "by_altitude": [{"altitude_m": h, "low_mach": lo, "high_mach": hi, "gap_mach": hi - lo}
+                                for h, lo, hi in zip(cc.altitude, cc.low, cc.high)]},
+            "zoom_ceiling_upper_bound": None if z is None else {
+                "energy_height_m": z.energy_height, "from_altitude_m": z.altitude, "from_mach": z.mach},
+            "requirements": [{"id": p.id, "kind": p.kind, "met": p.met, "on_boundary": p.on_boundary,
+                              "value": p.value, "required": p.required, "detail": p.detail} for p in self.points],
+            "notes": list(self.notes), "caution": CAUTION}
 
     def plot(self, ax=None, **kwargs):
         """Draw the envelope (see :func:`sizing.charts.envelope_plot.plot_envelope`)."""
@@ -282,6 +312,14 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
     if np.isfinite(nbest):
         rows.append(_row(f"max sustained load factor at {h_lo / FT:,.0f} ft", f"{nbest:.2f} g at M {mbest:.3f}",
                          "", h_lo, mbest, B, nbest, None, "g"))
+    # coffin corner (low-speed edge: buffet when the file gives cl_buffet, else stall) and zoom
+    cl_b = buffet_lift(tree)
+    cc = coffin_corner(fl, h_b, abs_c[0] if abs_c else h_hi, cl_b)
+    zoom = zoom_ceiling(level, np.asarray(fl.mach_limit(h_b), dtype=float) + 0.0 * h_b)
+    for q, text, h_r, m_r, v_r, unit in cc.rows() + (zoom.rows() if zoom else []):
+        rows.append(_row(q, text, "", h_r, m_r, B, v_r, None, unit))
+    if zoom is not None:
+        notes.append("zoom ceiling: energy height h + V^2/(2 g) (Rutowski's energy method, J. Aeronaut. Sci. 1954)")
     points = []
     for pt, row, own in evaluated:
         rows += [row] if row is not None else []
@@ -291,4 +329,5 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
                     power_or_thrust=Y, mach_top=top, altitude=H[:, 0], mach=Mg[0], ps=ps, level=level,
                     turns=tuple(turns), stall=(fl.mach_lift(h_b), h_b), speed_limit=(np.minimum.reduce(lims), h_b)
                     if lims else None, table_limit=table, absolute_ceiling=abs_c, service_ceiling=svc_c,
-                    points=tuple(points), rows=tuple(rows), notes=tuple(notes))
+                    points=tuple(points), rows=tuple(rows), notes=tuple(notes), coffin=cc, zoom=zoom,
+                    energy=energy_height(H, Mg * np.asarray(isa(H).speed_of_sound, dtype=float)))

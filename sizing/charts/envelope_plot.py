@@ -8,13 +8,13 @@ import textwrap
 import numpy as np
 
 from ..common.caution import CAUTION
-from ..common.conversions import FT
+from ..common.conversions import FT, KN
 from ..common.errors import InputError
 from ..common.fileio import atomic_write
 from .envelope import Envelope, nice_step, status_text
 
 _SUFFIXES = (".png", ".svg", ".pdf")
-_PLOT_OPTIONS = ("contours", "own_boundaries", "details", "title", "caution")
+_PLOT_OPTIONS = ("contours", "energy", "coffin", "own_boundaries", "details", "title", "caution")
 _COLOURS = ("#1f5fa8", "#c2571a", "#2e8b57", "#8e44ad", "#b8860b", "#c0392b", "#16a0a0", "#7f5539")
 _BLUES = ("#6a9bc6", "#3f74a8", "#285a8c", "#173f6b", "#0b2447")
 
@@ -54,19 +54,23 @@ def _differs(pt, env):
 def plot_envelope(env: Envelope, ax=None, **kwargs):
     """Draw an :class:`Envelope`: boundaries, Ps contours, limits, requirement marks.
 
-    Keywords: contours (Ps contours, default True); own_boundaries (each
+    Keywords: contours (Ps contours, default True); energy (energy-height contours and the zoom
+    ceiling, True); coffin (the 1 g stall or buffet edge and the Mach limit up to where they meet,
+    the narrowest speed band, True); own_boundaries (each
     requirement's boundary at its own conditions, dotted in its colour, where it
     differs from the drawn ones; True); details (the requirements and margins
     below the plot; True); title (str); caution (the caution line; True).
     ax: matplotlib Axes, or None for a new Agg figure.
 
     Returns a dict of handles: figure, ax, region, level, stall, turns {n: Line2D}, contours,
-    speed_limit, table_limit, ceilings, points {id: Line2D}, own {id: Line2D}, labels, legends, caution.
+    speed_limit, table_limit, ceilings, points {id: Line2D}, own {id: Line2D}, energy, zoom, coffin,
+    narrowest, labels, legends, caution.
     """
     if set(kwargs) - set(_PLOT_OPTIONS):
         raise TypeError(f"plot_envelope() got unknown keyword(s) {', '.join(sorted(set(kwargs) - set(_PLOT_OPTIONS)))}"
                         f"; valid: {', '.join(_PLOT_OPTIONS)}")
-    opt = {"contours": True, "own_boundaries": True, "details": True, "title": None, "caution": True, **kwargs}
+    opt = {"contours": True, "energy": True, "coffin": True, "own_boundaries": True, "details": True, "title": None,
+           "caution": True, **kwargs}
     from matplotlib.lines import Line2D
     from matplotlib.ticker import FuncFormatter
 
@@ -79,7 +83,11 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
     h = {"figure": fig, "ax": ax, "turns": {}, "points": {}, "own": {}, "ceilings": {}, "legends": []}
     style, n_items, texts = [], [], []
     ax.set_xlim(0.0, top * 1.03)
-    ax.set_ylim(env.altitude[0] * kft, env.altitude[-1] * kft)
+    y_top = env.altitude[-1]
+    cc = env.coffin if opt["coffin"] else None
+    if cc is not None and cc.meet is not None and cc.meet[0] <= 1.35 * y_top:
+        y_top = cc.meet[0] * 1.04          # show where stall (buffet) and the Mach limit meet
+    ax.set_ylim(env.altitude[0] * kft, y_top * kft)
     x, y = env.level.line(drop_domain=False)
     h["region"] = ax.fill(x[np.isfinite(x)], y[np.isfinite(x)] * kft, fc="#e6f0f9", ec="none", zorder=0)[0]
     if opt["contours"] and np.isfinite(env.ps).any():
@@ -89,6 +97,15 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
                                             colors="#8494a3", linewidths=0.6, zorder=1)
             ax.clabel(cs, fmt=lambda v: f"{v:g}", fontsize=6.5, inline=True)
             style.append((Line2D([], [], color="#8494a3", lw=0.6), f"Ps at 1 g, every {step:g} m/s"))
+    if opt["energy"] and env.energy is not None:
+        step_ft = nice_step(float(np.nanmax(env.energy)) / FT, 6)
+        lv = np.arange(step_ft, float(np.nanmax(env.energy)) / FT, step_ft) * FT
+        if len(lv):
+            ce = h["energy"] = ax.contour(env.mach, env.altitude * kft, env.energy, levels=lv, colors="#6d9b6d",
+                                          linewidths=0.6, linestyles=[(0, (6, 2, 1, 2))], zorder=1)
+            ax.clabel(ce, fmt=lambda v: f"he {v / FT / 1000:g}k", fontsize=6.5, inline=True)
+            style.append((Line2D([], [], color="#6d9b6d", lw=0.6, ls=(0, (6, 2, 1, 2))),
+                          f"energy height h + V²/2g, every {step_ft:,.0f} ft"))
     for i, b in enumerate(env.turns):
         col = _BLUES[min(i, len(_BLUES) - 1)]
         x, y = b.line()
@@ -110,6 +127,33 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         (h["stall"],) = ax.plot(np.append(b.lo[ok], nxt[0]), np.append(b.altitude[ok], nxt[1]) * kft,
                                 color="#a23b3b", lw=1.6, ls=(0, (5, 2)), zorder=4)
         style.append((h["stall"], "1 g stall (CLmax clean)"))
+    if cc is not None:        # the low-speed edge above the 1 g region and the Mach limit, up to where they meet
+        hi_h = cc.altitude[cc.altitude > env.altitude[-1] - 1.0]
+        lift = np.isfinite(env.level.lo) & env.level.lo_is_lift      # where the stall already bounds the 1 g region
+        above = cc.altitude >= (env.level.altitude[lift][-1] if lift.any() and cc.low_kind.startswith("stall") else -1e9)
+        (h["coffin"],) = ax.plot(cc.low[above], cc.altitude[above] * kft, color="#a23b3b", lw=0.9, ls=(0, (2, 2)),
+                                 zorder=3)
+        if len(hi_h):
+            ax.plot(cc.high[cc.altitude > env.altitude[-1] - 1.0], hi_h * kft, color="#555555", lw=0.9,
+                    ls="-.", zorder=3)
+        if cc.meet is not None and cc.meet[0] <= y_top:
+            ax.plot([cc.meet[1]], [cc.meet[0] * kft], "v", ms=8, mfc="#a23b3b", mec="black", zorder=7)
+            n_items.append((cc.meet[1], cc.meet[0] * kft, f"coffin corner {cc.meet[0] / FT:,.0f} ft", "#7a2020", None))
+        if cc.narrowest is not None:
+            hn, w, wv, lo, hi = cc.narrowest
+            h["narrowest"] = ax.annotate("", (hi, hn * kft), xytext=(lo, hn * kft), arrowprops={
+                "arrowstyle": "<->", "color": "#7a2fc7", "lw": 1.1, "shrinkA": 0, "shrinkB": 0}, zorder=6)
+            n_items.append((0.5 * (lo + hi), hn * kft, f"narrowest band M {w:.3f} ({wv / KN:,.0f} kn TAS)", "#7a2fc7",
+                            None))
+        style.append((Line2D([], [], color="#a23b3b", lw=0.9, ls=(0, (2, 2))),
+                      f"1 g {cc.low_kind} up to the coffin corner"))
+    if opt["energy"] and env.zoom is not None:
+        z = env.zoom
+        y_arrow = min(z.energy_height, y_top * 0.985)
+        h["zoom"] = ax.annotate("", (z.mach, y_arrow * kft), xytext=(z.mach, z.altitude * kft),
+                                arrowprops={"arrowstyle": "->", "color": "#2e6b2e", "lw": 1.2}, zorder=6)
+        n_items.append((z.mach, y_arrow * kft, f"zoom ≤ {z.energy_height / FT:,.0f} ft" +
+                        ("" if z.energy_height <= y_top else " (above)"), "#2e6b2e", None))
     if env.speed_limit is not None:
         lm, lh = env.speed_limit
         (h["speed_limit"],) = ax.plot(lm, lh * kft, color="#555555", lw=1.2, ls="-.", zorder=4)
