@@ -42,11 +42,38 @@ def _parser() -> argparse.ArgumentParser:
     st.add_argument("--dask", metavar="ADDRESS", help="run on a Dask distributed scheduler")
     st.add_argument("--limit", type=int, default=None, help="run only the first N points (quick checks)")
 
-    e = sub.add_parser("envelope", parents=[common], help="altitude-Mach envelope check of the sized design")
+    e = sub.add_parser("envelope", parents=[common], help="altitude-Mach envelope check of the sized design, "
+                                                           "coffin corner and zoom")
     e.add_argument("file")
-    e.add_argument("-o", "--output", default="envelope.png")
+    e.add_argument("-o", "--output", default=None, help="figure, PNG/SVG/PDF by suffix (default envelope.png)")
     e.add_argument("--data", help="also write the envelope table as CSV")
     e.add_argument("--weight-fraction", type=float, default=None)
+    e.add_argument("--json", action="store_true", help="print ceilings, top speeds, coffin corner and zoom as JSON "
+                                                       "(files only when -o/--data are given)")
+
+    charts = (("vn", "load-factor (V-n) chart: manoeuvring and gust envelope, design speeds", "vn.png"),
+              ("turn", "turn chart: sustained and instantaneous turn rate, corner speed", "turn.png"),
+              ("wat", "hot-and-high limits: largest takeoff mass by airfield elevation and temperature", "wat.png"),
+              ("payload-range", "payload-range diagram of a design sized by its mission", "payload-range.png"))
+    for name, text, default in charts:
+        c = sub.add_parser(name, parents=[common], help=text, description=text)
+        c.add_argument("file")
+        c.add_argument("-o", "--output", default=None, help=f"figure, PNG/SVG/PDF by suffix (default {default})")
+        c.add_argument("--data", help="also write the chart's data as CSV (units in the column names)")
+        c.add_argument("--json", action="store_true", help="print the summary as JSON (files only when -o/--data "
+                                                           "are given)")
+        if name in ("vn", "turn"):
+            c.add_argument("--weight-fraction", type=float, default=None, help="weight over takeoff weight (default 1)")
+        if name == "vn":
+            c.add_argument("--altitude", default="0 ft", help="pressure altitude with a unit (default '0 ft')")
+        if name == "turn":
+            c.add_argument("--altitude", default=None, help="pressure altitudes, e.g. '0, 15000 ft' (default: sea "
+                                                            "level and the turn requirements' altitudes)")
+        if name == "wat":
+            c.add_argument("--elevations", default=None, help="airfield elevations, e.g. '0, 4000, 8000 ft' "
+                                                              "(default 0 to 10,000 ft every 2,000 ft)")
+            c.add_argument("--temperatures", default=None, help="outside air temperatures, e.g. '0, 15, 30, 45 C' "
+                                                                "or '59, 95 F' (default 0, 15, 30, 45 C)")
 
     r = sub.add_parser("report", parents=[common], help="self-contained review report (HTML or Markdown)")
     r.add_argument("file")
@@ -135,24 +162,126 @@ def cmd_report(args) -> int:
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
 
 
-def cmd_envelope(args) -> int:
-    from .charts.envelope_plot import check_output
+def _solved_for_chart(args, default):
+    """(spec, result) of a chart command, or the exit code when the set is infeasible; checks -o first."""
+    from .charts.files import check_output
 
-    check_output(args.output)
+    if args.output is None and not args.json:
+        args.output = default
+    if args.output is not None:
+        check_output(args.output)
     spec, res = _solve(args.file)
     if not res.feasible:
         from .reports.summary import summary
 
-        print(summary(res, args.file))
-        return EXIT_INFEASIBLE
+        print(summary(res, args.file), file=sys.stderr if args.json else sys.stdout)
+        return None, EXIT_INFEASIBLE
+    return spec, res
+
+
+def _chart_output(args, chart, write, text):
+    """Print the table (or the JSON object) and write the requested files."""
+    from .charts.files import json_text
+
+    if args.json:
+        print(json_text(chart.as_dict()))
+    else:
+        print(text)
+    if args.output is not None:
+        written = write(chart, args.output, args.data)
+    elif args.data:
+        from .charts.files import csv_text
+        from .common.fileio import atomic_write
+
+        written = [str(atomic_write(args.data, csv_text(chart.to_frame(), chart.title), "w"))]
+    else:
+        written = []
+    if not args.json:
+        print("\n".join(f"wrote {w}" for w in written) + ("\n" if written else "") + CAUTION)
+    return EXIT_OK
+
+
+def cmd_envelope(args) -> int:
+    spec, res = _solved_for_chart(args, "envelope.png")
+    if spec is None:
+        return res
     from .charts.envelope import compute_envelope, status_text
     from .charts.envelope_plot import write_envelope
 
     env = compute_envelope(spec, res, args.weight_fraction)
-    print(env.table_text() + "\n\nRequirements at their own conditions")
-    print("\n".join(f"  {p.id:<18} {status_text(p):<16} {p.detail}   [{p.conditions}]" for p in env.points) + "\n")
-    print("\n".join(f"wrote {w}" for w in write_envelope(env, args.output, args.data)) + "\n" + CAUTION)
-    return EXIT_OK
+    text = (env.table_text() + "\n\nRequirements at their own conditions\n" +
+            "\n".join(f"  {p.id:<18} {status_text(p):<16} {p.detail}   [{p.conditions}]" for p in env.points) + "\n")
+    return _chart_output(args, env, write_envelope, text)
+
+
+def _length(text, field):
+    from .common.errors import InputError
+    from .inputs.units import UnitError, parse_list
+
+    try:
+        return parse_list(text, "length")
+    except UnitError as e:
+        raise InputError(str(e), field=field) from None
+
+
+def cmd_vn(args) -> int:
+    spec, res = _solved_for_chart(args, "vn.png")
+    if spec is None:
+        return res
+    from .charts.loads import compute_vn
+    from .charts.loads_plot import write_vn
+    from .common.errors import InputError
+
+    alt = _length(args.altitude, "--altitude")
+    if len(alt) != 1:
+        raise InputError(f"give one altitude, got {len(alt)}", field="--altitude")
+    vn = compute_vn(spec, res, alt[0], args.weight_fraction)
+    return _chart_output(args, vn, write_vn, vn.table_text())
+
+
+def cmd_turn(args) -> int:
+    spec, res = _solved_for_chart(args, "turn.png")
+    if spec is None:
+        return res
+    from .charts.turn import compute_turn
+    from .charts.turn_plot import write_turn
+
+    alts = None if args.altitude is None else _length(args.altitude, "--altitude")
+    chart = compute_turn(spec, res, alts, args.weight_fraction)
+    return _chart_output(args, chart, write_turn, chart.table_text())
+
+
+def cmd_wat(args) -> int:
+    spec, res = _solved_for_chart(args, "wat.png")
+    if spec is None:
+        return res
+    from .charts.hot_high import compute_wat
+    from .charts.hot_high_plot import write_wat
+    from .common.errors import InputError
+    from .inputs.units import UnitError, parse_temperatures
+
+    hs = None if args.elevations is None else _length(args.elevations, "--elevations")
+    try:
+        ts = None if args.temperatures is None else parse_temperatures(args.temperatures)
+    except UnitError as e:
+        raise InputError(str(e), field="--temperatures") from None
+    chart = compute_wat(spec, res, hs, ts)
+    return _chart_output(args, chart, write_wat, chart.table_text())
+
+
+def cmd_payload_range(args) -> int:
+    from .charts.payload_range import cruise_segment
+    from .inputs.spec import load
+
+    cruise_segment(load(args.file))          # no mission, no diagram: said before solving
+    spec, res = _solved_for_chart(args, "payload-range.png")
+    if spec is None:
+        return res
+    from .charts.payload_range import compute_payload_range
+    from .charts.payload_range_plot import write_payload_range
+
+    chart = compute_payload_range(spec, res)
+    return _chart_output(args, chart, write_payload_range, chart.table_text())
 
 
 def cmd_study(args) -> int:
@@ -176,7 +305,8 @@ def cmd_explore(args) -> int:
 
 COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagram": cmd_diagram,
             "report": cmd_report, "envelope": cmd_envelope, "study": cmd_study,
-            "explore": cmd_explore}
+            "explore": cmd_explore, "vn": cmd_vn, "turn": cmd_turn, "wat": cmd_wat,
+            "payload-range": cmd_payload_range}
 
 
 def main(argv=None) -> int:

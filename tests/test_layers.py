@@ -24,6 +24,10 @@ LAYER = {"common": 0, "physics": 1, "constraints": 2, "weights": 2, "inputs": 3,
 ALLOWED_UP = {("sizing.problem.result", "sizing.charts.diagram")}
 # lazy imports that close a circle between two modules of one folder
 ALLOWED_CYCLE = {("sizing.charts.envelope", "sizing.charts.envelope_plot"),
+                 ("sizing.charts.loads", "sizing.charts.loads_plot"),
+                 ("sizing.charts.turn", "sizing.charts.turn_plot"),
+                 ("sizing.charts.hot_high", "sizing.charts.hot_high_plot"),
+                 ("sizing.charts.payload_range", "sizing.charts.payload_range_plot"),
                  ("sizing.problem.nlp", "sizing.problem.diagnose")}
 MATPLOTLIB_OK = {"charts", "reports", "studies", "explore"}
 YAML_PINT_OK = {"inputs"}

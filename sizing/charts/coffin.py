@@ -25,7 +25,7 @@ import numpy as np
 from ..common.conversions import FT, KN
 from ..physics.aero import MachTable
 from ..physics.atmosphere import GAMMA, g0, isa
-from .performance import edge
+from .performance import edge, take
 
 SEARCH_TOP = 30000.0      # [m]: the coffin corner is sought up to this pressure altitude
 
@@ -64,9 +64,11 @@ def low_speed_mach(fl, h, cl_limit=None):
         cl = cl_limit(Mx) if callable(cl_limit) else cl_limit + 0.0 * Mx
         return cl * Mx ** 2 >= need[..., None] if np.ndim(Mx) > np.ndim(need) else cl * Mx ** 2 >= need
 
-    lo, hi = np.full_like(h, 0.02), np.full_like(h, max(float(fl.mach_top), 0.05))
-    M = edge(above, lo, hi, rising=True, points=41, passes=6)
-    return np.where(above(hi[..., None])[..., 0], M, np.nan)
+    X = np.linspace(0.02, max(float(fl.mach_top), 0.05), 161) + 0.0 * h[:, None]     # scan: CL_b M^2 may fall again
+    ok = above(X)
+    j = np.argmax(ok, axis=1)
+    M = edge(above, take(X, np.maximum(j - 1, 0)), take(X, j), rising=True, points=33, passes=5)
+    return np.where(ok.any(axis=1), np.where(j == 0, X[:, 0], M), np.nan)
 
 
 @dataclass(frozen=True)
@@ -120,7 +122,7 @@ def coffin_corner(fl, altitudes, top_altitude, cl_limit=None) -> CoffinCorner:
     if shut.any():
         j = int(np.argmax(shut))
         if j == 0:
-            meet = (0.0, float(high[0]))
+            meet = (0.0, float(fl.mach_limit(0.0)))
         else:
             hm = float(edge(closed, np.array(grid[j - 1]), np.array(grid[j]), rising=True))
             meet = (hm, float(fl.mach_limit(hm)))

@@ -127,11 +127,10 @@ def range_for(tree, ac, S, m0, fuel, index, guess):
     return float(brentq(f, 0.0, hi, xtol=1e-3, rtol=1e-12))
 
 
-def compute_payload_range(spec, res, samples=24) -> PayloadRange:
-    """Payload-range diagram of a solved design with a mission (see the module docstring)."""
-    if res is None or not res.feasible or res.design is None:
-        raise ValueError("the payload-range diagram needs a feasible design; this requirement set has none")
-    tree = M.spec_tree(spec)
+def cruise_segment(spec, tree=None):
+    """(index, segment) of the mission's longest cruise segment; a plain InputError when the file has no
+    mission-sized fuel or no cruise segment (checked before any solve)."""
+    tree = M.spec_tree(spec) if tree is None else tree
     w = tree["aircraft"]["weights"]
     if not Wt.has_mission_fuel(tree):
         why = (f"it sizes the fuel as a fixed fraction (aircraft.weights.fuel.fraction {w['fuel']['fraction']:g})"
@@ -139,12 +138,20 @@ def compute_payload_range(spec, res, samples=24) -> PayloadRange:
         raise InputError(f"no payload-range diagram: {why}, so there is no cruise range to trade against payload; "
                          f"give a mission with a cruise segment (and no fixed fuel fraction)", spec.path,
                          field="mission")
-    segs = tree["mission"]["segments"]
-    cruise = [(i, s) for i, s in enumerate(segs) if s["kind"] == "cruise"]
+    cruise = [(i, s) for i, s in enumerate(tree["mission"]["segments"]) if s["kind"] == "cruise"]
     if not cruise:
         raise InputError("no payload-range diagram: the mission has no cruise segment whose range could vary",
                          spec.path, field="mission.segments")
-    index, seg = max(cruise, key=lambda t: t[1]["range"])
+    return max(cruise, key=lambda t: t[1]["range"])
+
+
+def compute_payload_range(spec, res, samples=24) -> PayloadRange:
+    """Payload-range diagram of a solved design with a mission (see the module docstring)."""
+    if res is None or not res.feasible or res.design is None:
+        raise ValueError("the payload-range diagram needs a feasible design; this requirement set has none")
+    tree = M.spec_tree(spec)
+    w = tree["aircraft"]["weights"]
+    index, seg = cruise_segment(spec, tree)
     name = seg.get("name") or f"cruise-{index + 1}"
     ac, d = M.aircraft(tree), res.design
     S, m_TO, empty, crew = float(d.wing_area), float(d.takeoff_mass), float(d.empty_mass), float(d.crew_mass)

@@ -251,3 +251,60 @@ def is_dimension(q: Quantity, dim: str) -> bool:
         return True
     except UnitError:
         return False
+
+
+def parse_list(text: str, dimension: str) -> list:
+    """A comma-separated list of quantities [SI]; bare numbers take the unit of the next item that has
+    one (``"0, 2000, 4000 ft"`` is three lengths in feet).
+
+    >>> [round(v, 4) for v in parse_list("0, 5000 ft, 2 km", "length")]
+    [0.0, 1524.0, 2000.0]
+    """
+    items = [t.strip() for t in str(text).split(",")]
+    if not items or any(not t for t in items):
+        raise UnitError(f"{text!r} is not a comma-separated list of values, e.g. '0, 2000, 4000 ft'")
+    out, unit = [], None
+    for item in reversed(items):
+        m = _NUMBER.match(item)
+        if m is not None and m.group(2):
+            unit = m.group(2)
+        elif m is not None and unit is not None:
+            item = f"{item} {unit}"
+        out.append(parse(item, dimension).si)
+    return out[::-1]
+
+
+_TEMPERATURE_UNITS = {"c": "degC", "°c": "degC", "degc": "degC", "celsius": "degC", "f": "degF", "°f": "degF",
+                      "degf": "degF", "fahrenheit": "degF", "k": "K", "kelvin": "K"}
+
+
+def parse_temperatures(text: str) -> list:
+    """A comma-separated list of (absolute) air temperatures in C, F or K -> kelvin; bare numbers take
+    the unit of the next item that has one.
+
+    Examples
+    --------
+    Source: exact conversions (0 C = 273.15 K; T_F = 1.8 T_C + 32): 15 C -> 288.15 K, 95 F -> 308.15 K.
+
+    >>> [round(v, 2) for v in parse_temperatures("15 C, 95 F, 0, 30 C")]
+    [288.15, 308.15, 273.15, 303.15]
+    """
+    items = [t.strip() for t in str(text).split(",")]
+    if not items or any(not t for t in items):
+        raise UnitError(f"{text!r} is not a comma-separated list of temperatures, e.g. '0, 15, 30, 45 C'")
+    out, unit = [], None
+    for item in reversed(items):
+        m = _NUMBER.match(item)
+        if m is None:
+            raise UnitError(f"{item!r} does not start with a number; write temperatures like '35 C' or '95 F'")
+        if m.group(2):
+            unit = _TEMPERATURE_UNITS.get(m.group(2).lower())
+            if unit is None:
+                raise UnitError(f"{item!r}: {m.group(2)!r} is not a temperature unit; use C, F or K")
+        elif unit is None:
+            raise UnitError(f"{item!r} has no unit; write temperatures like '0, 15, 30 C' or '95 F'")
+        T = registry().Quantity(float(m.group(1)), unit).to("K").magnitude
+        if not T > 0:
+            raise UnitError(f"{item!r} is below absolute zero")
+        out.append(float(T))
+    return out[::-1]

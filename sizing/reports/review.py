@@ -2,7 +2,8 @@
 
 Title, caution, solver status, design point, weight statement, drivers with
 what each costs, margins, the constraint diagram (PNG embedded as base64),
-the envelope check when :mod:`sizing.envelope` offers a report section, the
+the envelope check with its coffin corner and zoom, the load-factor (V-n) chart, turn
+performance, hot-and-high limits and payload-range (:mod:`.sections`), the
 inputs echoed as the user wrote them, and the provenance (tool version,
 input file hash). Nothing here computes physics: the numbers come from the
 :class:`sizing.model.Result`, the figures from the plotting modules.
@@ -118,7 +119,9 @@ def envelope_section(spec, res):
              f"{env.weight_fraction:g} (standard day, clean, full throttle): level flight where the specific "
              "excess power Ps = V (T - D)/W is at least 0 at 1 g, above the CLmax stall line; sustained "
              "load-factor boundaries where Ps = 0 at n g. Requirement rows use each requirement's own weight "
-             "fraction, temperature, lapse, configuration and throttle.", "", "| quantity | value |", "|---|---|"]
+             "fraction, temperature, lapse, configuration and throttle. The coffin corner is where the 1 g stall "
+             "(or buffet) Mach meets the Mach limit; the zoom ceiling is the largest energy height h + V^2/(2 g) of "
+             "the 1 g envelope, an upper bound with no drag losses.", "", "| quantity | value |", "|---|---|"]
     lines += [f"| {r['quantity']} | {r['text'].replace('|', '/')} |" for r in env.rows]
     lines += ["", "| requirement | status | margin | own conditions |", "|---|---|---|---|"]
     lines += [f"| {p.id} | {status_text(p)} | {p.detail} | {p.conditions} |" for p in env.points]
@@ -133,7 +136,7 @@ def _diagram_png(spec, res):
     return figure_bytes(h.figure, "png", dpi=REPORT_DPI)
 
 
-def document(spec, res, *, diagram=True, envelope=True):
+def document(spec, res, *, diagram=True, envelope=True, flight=True):
     """The report as a list of blocks (see the module comment)."""
     from ..common.version import __version__
 
@@ -212,6 +215,13 @@ def document(spec, res, *, diagram=True, envelope=True):
             blocks.append(("md", text))
             if png:
                 blocks.append(("img", "Envelope check", png))
+    if flight:
+        from .sections import flight_sections
+
+        for text, png, alt in flight_sections(spec, res):
+            blocks.append(("md", text))
+            if png:
+                blocks.append(("img", alt, png))
 
     blocks += [("h", 2, "Inputs as written"),
                ("table", ["requirement", "kind", "values", "note"], _requirement_inputs(spec)),
