@@ -134,8 +134,10 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         (h["coffin"],) = ax.plot(cc.low[above], cc.altitude[above] * kft, color="#a23b3b", lw=0.9, ls=(0, (2, 2)),
                                  zorder=3)
         if len(hi_h):
-            ax.plot(cc.high[cc.altitude > env.altitude[-1] - 1.0], hi_h * kft, color="#555555", lw=0.9,
-                    ls="-.", zorder=3)
+            hi_m = cc.high[cc.altitude > env.altitude[-1] - 1.0]
+            ax.plot(hi_m, hi_h * kft, color="#555555", lw=1.2, ls="-.", zorder=4)
+            ax.fill_betweenx(hi_h * kft, hi_m, np.maximum(hi_m, top), fc="none", ec="#c4c4c4", hatch="///", lw=0.0,
+                             zorder=0.5)
         if cc.meet is not None and cc.meet[0] <= y_top:
             ax.plot([cc.meet[1]], [cc.meet[0] * kft], "v", ms=8, mfc="#a23b3b", mec="black", zorder=7)
             n_items.append((cc.meet[1], cc.meet[0] * kft, f"coffin corner {cc.meet[0] / FT:,.0f} ft", "#7a2020", None))

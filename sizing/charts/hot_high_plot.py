@@ -32,7 +32,7 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
     finite = [m for _, ms, _ in chart.curves for m in ms if np.isfinite(m) and m > 0]
     lo, hi = min(finite + [chart.design_mass]), max(finite + [chart.design_mass])
     pad = 0.08 * (hi - lo or chart.design_mass)
-    ax.set_ylim(lo - pad, hi + pad)
+    ax.set_ylim(lo - pad, hi + pad + 0.45 * (hi - lo or chart.design_mass))      # headroom for the legend
     t0, t1 = min(chart.temperatures) - ZERO_C, max(chart.temperatures) - ZERO_C
     ax.set_xlim(t0 - 0.03 * (t1 - t0 or 10.0), t1 + 0.16 * (t1 - t0 or 10.0))     # room for the line names
     for i, (h_el, (T, m, by)) in enumerate(zip(chart.elevations, chart.curves)):
@@ -47,10 +47,8 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
                 ax.plot([xt], [mt], marker[rid], ms=6.5, mfc="white", mec=col, mew=1.4, zorder=4)
         ax.annotate(f"{h_el / FT:,.0f} ft", (x[-1], m[-1]), xytext=(5, 0), textcoords="offset points", fontsize=8,
                     color=col, va="center", annotation_clip=False)
-    h["design"] = ax.axhline(chart.design_mass, color="#111111", lw=1.2, ls="--", zorder=2)
-    ax.annotate(f"design takeoff mass {chart.design_mass:,.0f} kg (structural maximum)", (ax.get_xlim()[0], chart.design_mass),
-                xytext=(4, 3), textcoords="offset points", fontsize=8, va="bottom",
-                bbox={"fc": "white", "ec": "none", "alpha": 0.8, "boxstyle": "round,pad=0.1"}, zorder=5)
+    h["design"] = ax.axhline(chart.design_mass, color="#111111", lw=1.2, ls="--", zorder=2,
+                             label=f"design takeoff mass {chart.design_mass:,.0f} kg (structural maximum)")
     if chart.design_mass - chart.payload > ax.get_ylim()[0]:
         ax.axhspan(ax.get_ylim()[0], chart.design_mass - chart.payload, color="#f3e3e3", zorder=0, lw=0)
         ax.annotate("shaded: no payload with the design fuel (fuel must be offloaded)", (0.5, 0.0),
@@ -74,7 +72,7 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
         [t for t in MaxNLocator(count).tick_values(0.0, chart.payload) if 0.0 <= t <= chart.payload + 1e-9]
     right.set_yticks(ticks)
     ax.grid(True, color="#e2e2e2", lw=0.5, zorder=-1)
-    h["legend"] = ax.legend(loc="upper right", fontsize=7.5, framealpha=0.92, title="airfield elevation",
+    h["legend"] = ax.legend(loc="upper right", ncol=2, fontsize=7.5, framealpha=0.92, title="airfield elevation",
                             title_fontsize=7.5)
     ax.set_title(opt["title"] or f"{chart.title}: hot-and-high limits (WAT)\nlargest takeoff mass meeting "
                  f"{', '.join(chart.requirements)}; sized wing and engine, elevation at standard pressure",
