@@ -30,7 +30,7 @@ from sizing.common.errors import InputError
 from sizing.physics.aero import MachTable
 from sizing.problem import tree as M
 
-FT, KN, G0 = 0.3048, 1852.0 / 3600.0, 9.80665       # exact definitions (REFERENCES §9)
+FT, KN, G0 = 0.3048, 1852.0 / 3600.0, 9.80665       # exact definitions (docs/references.md §16)
 R0 = 6356766.0
 _CACHE = {}
 
@@ -57,7 +57,7 @@ def design(res):
 
 def test_turn_relations():
     # Source: Anderson, Aircraft Performance and Design, §6.17: omega = g sqrt(n^2 - 1)/V, R = V^2/(g sqrt(n^2 - 1));
-    # hand calculation: n 2 at 100 m/s -> 0.169856 rad/s, 588.73 m; n 1 -> no turn
+    # hand calculation: n 2 at 100 m/s -> 0.169856 rad/s, 588.73 m; n 1 -> no turn (docs/references.md check 5.5-a)
     assert float(turn_rate(2.0, 100.0)) == pytest.approx(G0 * math.sqrt(3) / 100, rel=1e-12)
     assert float(turn_radius(2.0, 100.0)) == pytest.approx(588.73, abs=0.005)
     assert float(turn_rate(1.0, 100.0)) == 0.0 and math.isnan(float(turn_rate(0.9, 100.0)))
@@ -112,6 +112,7 @@ def test_trainer_turn_chart(solved):
 
 def test_energy_height():
     # Source: energy height he = h + V^2/(2 g) (Rutowski 1954); hand calculation: 10 km at 250 m/s -> 13 186.66 m
+    # (docs/references.md check 5.6-a)
     assert float(energy_height(10000.0, 250.0)) == pytest.approx(10000 + 250 ** 2 / (2 * G0), rel=1e-12)
 
 
@@ -178,12 +179,14 @@ def test_buffet_lift_coefficient_replaces_the_stall(solved):
 
 def test_isa_offset_of_an_outside_air_temperature():
     # Source: U.S. Standard Atmosphere 1976, T = 288.15 - 0.0065 H: at 1 524 m, 278.244 K; 35 C is ISA+29.906 K
+    # (docs/references.md check 7.6-a)
     assert WAT.isa_offset(1524.0, 273.15 + 35.0) == pytest.approx(29.906, abs=1e-3)
 
 
 def test_wat_at_the_design_condition_is_the_design_mass(solved):
     # the trainer's active takeoff requirement (700 m at 2 000 ft, ISA+15): the WAT limit there is the sized
-    # takeoff mass itself (the solve puts it on its boundary; tolerance the solver's active-set tolerance)
+    # takeoff mass itself (the solve puts it on its boundary; tolerance the solver's active-set tolerance);
+    # docs/references.md check 7.6-b
     spec, res = solved["trainer-jet.yaml"]
     h = 2000 * FT
     oat = float(ambiance.Atmosphere(R0 * h / (R0 - h)).temperature[0]) + 15.0
@@ -240,7 +243,8 @@ def test_wat_table_falls_with_height_and_heat(solved):
 
 def _breguet_mission_fuel(m0, R, spec, res):
     """The long-range jet's mission by hand: fixed fractions, Breguet cruise (jet) and loiter with L/D at each
-    segment's start weight (Raymer Ch. 3, Eqs. 3.5 and 3.7), 6 % reserve and trapped fuel; CD0 by scipy PCHIP on
+    segment's start weight (Raymer Ch. 3; docs/references.md §12.1-12.2, check 12.9-b), 6 % reserve and trapped
+    fuel; CD0 by scipy PCHIP on
     the file's table, k1 = 1/(pi A e), ambiance for the air."""
     S, g = res.design.wing_area, G0
     cd0 = PchipInterpolator([0.0, 0.75, 0.85, 0.9], [0.0175, 0.0180, 0.0200, 0.0240])
@@ -262,7 +266,7 @@ def test_payload_range_corners_against_breguet_by_hand(solved):
     spec, res = solved["long-range-jet.yaml"]
     pr = cached("pr", lambda: compute_payload_range(spec, res))
     d = res.design
-    # the design point flies the file's 10 000 km (the solve's own mission, reproduced)
+    # the design point flies the file's 10 000 km (the solve's own mission, reproduced; check 12.9-a)
     assert pr.corner("design").range == pytest.approx(10_000_000.0, rel=1e-6)
     assert pr.corner("design").takeoff_mass == pytest.approx(d.takeoff_mass, rel=1e-9)
     for name in ("max-payload", "max-fuel", "ferry"):

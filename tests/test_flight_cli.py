@@ -158,6 +158,7 @@ def test_new_keys_reach_the_tree():
 
 def test_wing_mass_follows_the_limit_load_factor():
     # Source: 14 CFR 23.337(a)(3) (acrobatic 6.0) and the wing term (n/n_ref)^x of the option; hand calculation
+    # (docs/references.md check 11.6-a)
     e = {"model": "components", "other": 0.4, "wing": 12.0, "propulsion": 1.3e-3,
          "wing_load_factor": {"reference": 3.8, "exponent": 0.49}}
     W_S, Y, m = 1300.0, 14.0, 2000.0

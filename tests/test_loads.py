@@ -2,7 +2,7 @@
 Pratt's gust formula and the lift-curve slope, and the chart of the sized examples.
 
 Checked against: the regulation texts (14 CFR 23.333, 23.335, 23.337, 23.341 before 2017;
-25.335, 25.337; REFERENCES check case CC2), the regulation's own imperial gust formula with its
+25.335, 25.337; docs/references.md §14), the regulation's own imperial gust formula with its
 constant 498, the published limits of the Helmbold-DATCOM lift-curve slope (slender-wing and
 thin-airfoil theory), and an independent recomputation with the `ambiance` ICAO atmosphere.
 """
@@ -36,14 +36,14 @@ def vn(solved, name, **kw):
 # --------------------------------------------------------------------------
 
 @pytest.mark.parametrize("category, weight_lb, n", [
-    ("normal", 4000.0, 3.8),            # Source: 14 CFR 23.337(a)(1), REFERENCES CC2 (cap 3.8)
-    ("normal", 6000.0, 3.6),            # Source: CC2
-    ("normal", 10000.0, 3.3),           # Source: REFERENCES §2.1 (3.3 at 10 000 lb)
-    ("normal", 12500.0, 3.16667),       # Source: CC2
+    ("normal", 4000.0, 3.8),            # Source: 14 CFR 23.337(a)(1) (docs/references.md check 14.6-a)
+    ("normal", 6000.0, 3.6),            # Source: 23.337(a)(1), check 14.6-a
+    ("normal", 10000.0, 3.3),           # Source: 23.337(a)(1), check 14.6-a
+    ("normal", 12500.0, 3.16667),       # Source: 23.337(a)(1), check 14.6-a
     ("utility", 6000.0, 4.4),           # Source: 23.337(a)(2)
     ("acrobatic", 6000.0, 6.0),         # Source: 23.337(a)(3)
-    ("transport", 19000.0, 2.92759),    # Source: 25.337(b), CC2
-    ("transport", 100000.0, 2.5),       # Source: 25.337(b) floor, CC2
+    ("transport", 19000.0, 2.92759),    # Source: 25.337(b), check 14.6-b
+    ("transport", 100000.0, 2.5),       # Source: 25.337(b) floor, check 14.6-b
     ("transport", 3000.0, 3.8),         # Source: 25.337(b) "need not exceed 3.8"
 ])
 def test_limit_load_factor(category, weight_lb, n):
@@ -61,7 +61,8 @@ def test_limit_load_factor_on_casadi_symbols():
 
 def test_negative_load_factors():
     # Source: 14 CFR 23.337(b) (0.4 and 0.5 of the positive), 23.333(b)(3) (linear from VC to 0 at VD for
-    # normal, to -1 for utility and acrobatic), 25.337(c) (-1 to VC, linear to 0 at VD)
+    # normal, to -1 for utility and acrobatic), 25.337(c) (-1 to VC, linear to 0 at VD); docs/references.md
+    # checks 14.6-a, 14.6-g
     assert L.negative_load_factor("normal", 3.8) == pytest.approx(-1.52)
     assert L.negative_load_factor("utility", 4.4) == pytest.approx(-1.76)
     assert L.negative_load_factor("acrobatic", 6.0) == pytest.approx(-3.0)
@@ -79,12 +80,13 @@ def test_negative_load_factors():
     ("normal", 60.0, (33.0 - 4.4 * 0.5) * math.sqrt(60.0)),   # computed here: halfway, 30.8 sqrt(60)
 ])
 def test_cruise_speed_minimum(category, psf, vc_kn):
+    # docs/references.md check 14.6-d
     assert L.cruise_speed_minimum(psf * LBF_FT2, category) / KN == pytest.approx(vc_kn, rel=1e-9)
 
 
 def test_dive_speed_minimum():
     # Source: 23.335(b)(1)-(3): VD >= 1.25 VC and >= 1.40 / 1.50 / 1.55 VCmin, factors linear to 1.35 at W/S 100;
-    # 25.335(b): VC <= 0.8 VD
+    # 25.335(b): VC <= 0.8 VD (docs/references.md check 14.6-d)
     vc = 150.0 * KN
     for cat, f in (("normal", 1.40), ("utility", 1.50), ("acrobatic", 1.55)):
         assert L.dive_speed_minimum(vc, vc, 16 * LBF_FT2, cat) == pytest.approx(f * vc, rel=1e-12)
@@ -96,7 +98,7 @@ def test_dive_speed_minimum():
 @pytest.mark.parametrize("speed, fps", [("cruise", (50, 50, 37.5, 25, 25)), ("dive", (25, 25, 18.75, 12.5, 12.5)),
                                         ("rough-air", (66, 66, 52, 38, 38))])
 def test_derived_gust_velocities(speed, fps):
-    # Source: 14 CFR 23.333(c)(1)(i)-(iii): constant to 20 000 ft, linear to the 50 000 ft value (held above,
+    # Source: 14 CFR 23.333(c)(1)(i)-(iii) (docs/references.md §14.4): constant to 20 000 ft, linear to the 50 000 ft value (held above,
     # the rule stops there)
     got = [L.derived_gust_velocity(h * FT, speed) / FT for h in (0, 20000, 35000, 50000, 60000)]
     assert got == pytest.approx(fps, abs=1e-9)
@@ -105,8 +107,9 @@ def test_derived_gust_velocities(speed, fps):
 def test_gust_formula_against_the_regulation_text():
     # Source: 14 CFR 23.341(c): n = 1 + Kg Ude V a/(498 (W/S)), Kg = 0.88 mu/(5.3 + mu), mu = 2 (W/S)/(rho C a g),
     # imperial units (Ude ft/s, V kn EAS, W/S lb/ft^2, rho slug/ft^3, C ft, g ft/s^2). The SI form uses
-    # rho0 exactly; 498 is rounded (2/(0.0023769 x 1.68781) = 498.5), so they agree to 0.15 %.
-    g_ft, slug_ft3 = 9.80665 / FT, 515.378818          # REFERENCES §9
+    # rho0 exactly; 498 is rounded (2/(0.0023769 x 1.68781) = 498.5), so they agree to 0.15 %
+    # (docs/references.md check 14.6-f).
+    g_ft, slug_ft3 = 9.80665 / FT, 515.378818          # docs/references.md §16
     for psf, chord_ft, a, ude, v_kn, alt_ft in ((20.0, 5.0, 5.0, 50.0, 160.0, 0.0), (60.0, 8.0, 5.5, 50.0, 300.0, 10000.0),
                                                 (110.0, 12.0, 4.8, 25.0, 420.0, 30000.0)):
         atm = ambiance.Atmosphere(R0 * alt_ft * FT / (R0 - alt_ft * FT))
@@ -129,7 +132,7 @@ def test_gust_alleviation_limits():
 def test_lift_curve_slope_limits():
     # Source: limits of the Helmbold-DATCOM form (Raymer Eq. 12.6): slender-wing theory a = pi A/2 for A -> 0
     # (R. T. Jones, NACA Report 835, 1946) and the section slope 2 pi eta/sqrt(1 - M^2) for A -> inf
-    # (Prandtl-Glauert)
+    # (Prandtl-Glauert); docs/references.md check 14.6-e
     assert L.lift_curve_slope(1e-4) == pytest.approx(math.pi * 1e-4 / 2, rel=1e-6)
     assert L.lift_curve_slope(1e7, 0.5) == pytest.approx(2 * math.pi * 0.95 / math.sqrt(0.75), rel=1e-5)
     assert L.lift_curve_slope(8.0, 0.6) > L.lift_curve_slope(8.0, 0.0)       # compressibility raises it
@@ -237,3 +240,14 @@ def test_figure_and_frame(solved):
     assert set(d["speeds_eas_m_s"]) >= {"stall", "maneuvering", "cruise", "dive"}
     assert set(d["gust"]) >= {"cruise", "dive"} and set(d["gust"]["cruise"]) >= {"positive", "negative"}
     assert d["loads_caution"] == LOADS_CAUTION and d["caution"] == CAUTION
+
+
+def test_gust_worked_check():
+    # Source: 14 CFR 23.341(c) with the inputs of docs/references.md check 14.6-c (W/S 20 lbf/ft^2, c 5 ft,
+    # a 5 /rad, sea level rho 0.0023769 slug/ft^3, g 32.2, VC 150 kt, Ude 50 ft/s): mu 20.905, Kg 0.70202,
+    # n 3.6431 in the rule's own units; the SI form (g0 exact, 2/rho0 in place of 498) gives 3.6407
+    mu = 2 * 20.0 / (0.0023769 * 5.0 * 5.0 * 32.2)
+    Kg = 0.88 * mu / (5.3 + mu)
+    assert (round(mu, 3), round(Kg, 5), round(1 + Kg * 50 * 150 * 5 / (498 * 20), 4)) == (20.905, 0.70202, 3.6431)
+    n_si = 1 + float(L.gust_load_increment(20 * LBF_FT2, 0.0023769 * 515.378818, 5 * FT, 5.0, 50 * FT, 150 * KN))
+    assert n_si == pytest.approx(3.6431, rel=1e-3) and n_si == pytest.approx(3.6407, abs=1e-4)

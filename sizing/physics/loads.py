@@ -5,6 +5,8 @@ velocities by altitude, and the wing lift-curve slope.
 Structural design loads are defined by the applicable regulation and the authority;
 these are the simplified published forms, for conceptual estimates only.
 
+Sources, labels and check values: docs/references.md §14.
+
 Pure SI (speeds are equivalent airspeeds [m/s], wing loading [N/m^2], mass [kg]);
 :func:`limit_load_factor` evaluates on floats, arrays and CasADi symbols (it feeds the
 empty-mass model when a file asks for it).
@@ -59,7 +61,7 @@ def limit_load_factor(category, m_TO):
 
     Examples
     --------
-    Source: 14 CFR 23.337(a)(1) and 25.337(b) (REFERENCES check case CC2): normal at
+    Source: 14 CFR 23.337(a)(1) and 25.337(b) (docs/references.md checks 14.6-a, 14.6-b): normal at
     6 000 lb -> 3.6, at 12 500 lb -> 3.16667; transport at 19 000 lb -> 2.92759, at
     100 000 lb -> 2.5 (floor).
 

@@ -91,7 +91,7 @@ def design_load_factor(category, m_TO, load_factors=()):
 
     Examples
     --------
-    Source: 14 CFR 23.337(a)(1) (REFERENCES check case CC2): normal at 6 000 lb -> 3.6; a
+    Source: 14 CFR 23.337(a)(1) (docs/references.md check 14.6-a): normal at 6 000 lb -> 3.6; a
     4.0 g requirement raises it to 4.0.
 
     >>> round(float(design_load_factor("normal", 6000 * LB)), 6), float(design_load_factor("normal", 6000 * LB, [2.0, 4.0]))
