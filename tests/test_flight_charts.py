@@ -111,7 +111,7 @@ def test_trainer_turn_chart(solved):
 # --------------------------------------------------------------------------
 
 def test_energy_height():
-    # Source: energy height he = h + V^2/(2 g) (Rutowski 1954); hand calculation: 10 km at 250 m/s -> 13 186.66 m
+    # Source: energy height he = h + V^2/(2 g) (Rutowski 1954); hand calculation: 10 km at 250 m/s -> 13 186.61 m
     # (docs/references.md check 5.6-a)
     assert float(energy_height(10000.0, 250.0)) == pytest.approx(10000 + 250 ** 2 / (2 * G0), rel=1e-12)
 

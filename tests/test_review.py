@@ -130,7 +130,7 @@ def test_envelope_section_is_included(solved, tmp_path):
     assert f">{first_heading}<" in text
     # diagram, envelope, V-n, turn and WAT charts; the trainer has no mission, so payload-range is a paragraph
     assert len(embedded_pngs(text)) == 5
-    assert "no payload-range diagram" in text
+    assert "No payload-range diagram" in text
 
 
 def test_report_without_the_envelope_section(solved):

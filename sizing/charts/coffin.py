@@ -35,10 +35,10 @@ def energy_height(altitude, V):
 
     Examples
     --------
-    Hand calculation: 10 000 m at 250 m/s -> 10 000 + 62 500/19.6133 = 13 186.66 m.
+    Hand calculation: 10 000 m at 250 m/s -> 10 000 + 62 500/19.6133 = 13 186.61 m.
 
     >>> round(float(energy_height(10000.0, 250.0)), 2)
-    13186.66
+    13186.61
     """
     return np.asarray(altitude, dtype=float) + np.asarray(V, dtype=float) ** 2 / (2.0 * g0)
 

@@ -83,10 +83,11 @@ def wat_section(spec, res):
         rows.append([f"{h / FT:,.0f} ft"] + [f"{c.mass:,.0f} kg ({c.limited_by or '-'})" if math.isfinite(c.mass)
                                               else "above the range" for c in cells])
     hh = chart.hot_and_high()
-    lines = head + [f"Largest takeoff mass of the sized design (wing and engine fixed) that still meets "
-                    f"{', '.join(chart.requirements)}, by airfield elevation (at standard pressure) and outside air "
-                    f"temperature, from the same constraint functions as the sizing; the limiting requirement in "
-                    f"brackets. Design takeoff mass {chart.design_mass:,.0f} kg ({chart.design_mass / LB:,.0f} lb).", ""]
+    lines = head + [f"Largest takeoff mass of the sized design (wing and engine fixed) that still meets its airfield "
+                    f"requirements ({', '.join(chart.requirements)}), by airfield elevation (at standard pressure) and "
+                    f"outside air temperature, from the same constraint functions as the sizing; the limiting "
+                    f"requirement in parentheses. Design takeoff mass {chart.design_mass:,.0f} kg "
+                    f"({chart.design_mass / LB:,.0f} lb).", ""]
     lines += _table(["elevation"] + [f"OAT {t:g} C ({t * 1.8 + 32:g} F)" for t in temps], rows)
     lines += ["", f"**Hot-day payload**: at {hh.elevation / FT:,.0f} ft and {hh.oat - ZERO_C:g} C "
                   f"(ISA{hh.isa_offset:+.1f} K) the largest takeoff mass is {hh.mass:,.0f} kg ({hh.limited_by}): "
