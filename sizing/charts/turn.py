@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..common.caution import CAUTION
+from ..common.caution import CAUTION, LOADS_CAUTION
 from ..common.conversions import FT, KN
 from ..common.errors import InputError
 from ..physics.atmosphere import H_MAX, g0, isa
@@ -125,7 +125,8 @@ class TurnChart:
     def as_dict(self) -> dict:
         return {"title": self.title, "weight_fraction": self.weight_fraction, "n_limit": self.n_limit,
                 "n_limit_source": self.n_limit_source, "cl_max": self.cl_max,
-                "altitudes": [lv.summary() for lv in self.levels], "notes": list(self.notes), "caution": CAUTION}
+                "altitudes": [lv.summary() for lv in self.levels], "notes": list(self.notes),
+                "loads_caution": LOADS_CAUTION, "caution": CAUTION}
 
     def table_text(self) -> str:
         out = [f"Turn performance: {self.title}",
@@ -145,7 +146,7 @@ class TurnChart:
                 else f"{s['max_sustained_turn_rate_deg_s']:.2f} deg/s at M {s['max_sustained_turn_mach']:.3f} "
                      f"({s['max_sustained_turn_load_factor']:.2f} g)"))
             out += [f"    {p[0]}: {p[4]}" for p in lv.points]
-        return "\n".join(out + [f"  note: {t}" for t in self.notes])
+        return "\n".join(out + [f"  note: {t}" for t in self.notes] + ["", LOADS_CAUTION])
 
     def plot(self, **kwargs):
         """Draw the chart (see :func:`sizing.charts.turn_plot.plot_turn`)."""

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..common.caution import CAUTION
+from ..common.caution import CAUTION, LOADS_CAUTION
 from ..common.conversions import FT, KN
 from .envelope import nice_step
 from .files import write_chart
@@ -86,7 +86,7 @@ def plot_turn(chart: TurnChart, axes=None, **kwargs):
             x0, x1 = ax.get_xlim()
             left = (m - x0) / (x1 - x0) > 0.4         # room on the left of the point, else below right
             h["labels"].append(ax.annotate(f"best sustained {r * DEG:.1f} deg/s\nM {m:.2f}, {n:.2f} g", (m, r * DEG),
-                                           xytext=(-8, 0) if left else (6, -10), textcoords="offset points",
+                                           xytext=(-8, 0) if left else (6, -24), textcoords="offset points",
                                            fontsize=7.5, color=PALETTE[0], ha="right" if left else "left",
                                            va="center" if left else "top",
                                            bbox={"fc": "white", "ec": "none", "alpha": 0.8, "boxstyle": "round,pad=0.15"}))
@@ -112,7 +112,7 @@ def plot_turn(chart: TurnChart, axes=None, **kwargs):
                  f"standard day, clean, full throttle; limit load factor {chart.n_limit:.2f} g; grey dashed: constant "
                  f"load factor, dotted: constant radius, thin solid: Ps [m/s]", fontsize=10)
     if opt["caution"]:
-        h["caution"] = add_footer(axes[0], [f"Note: {t}." for t in chart.notes] + [CAUTION],
+        h["caution"] = add_footer(axes[0], [f"Note: {t}." for t in chart.notes] + [LOADS_CAUTION, CAUTION],
                                   width=int(60 + 70 * (len(chart.levels) - 1)))
     return h
 
