@@ -41,7 +41,10 @@ EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 EXTRA = """\
 title: range check concept
 aircraft:
-  aerodynamics: {cd0: 0.02, k1: 0.1, k2: -0.01, cl_max: {clean: 1.3, landing: 2.0}}
+  category: utility
+  design_speeds: {cruise: 250 kn}
+  aerodynamics: {cd0: 0.02, k1: 0.1, k2: -0.01, cl_max: {clean: 1.3, landing: 2.0}, cl_min: -1.0,
+                 lift_curve_slope: 5.0}
   propulsion: {type: turbojet, engines: 2, throttle_ratio: 1.0}
   speed_limit: {speed: 500 kn}
   weights:
@@ -73,7 +76,9 @@ def explorers():
 
 
 EXTRA_STATISTICAL = EXTRA.replace("empty: {model: fraction, value: 0.55}",
-                                  "empty: {model: statistical, a: 1.59, c: -0.10, max_mach: 0.9}")
+                                  "empty: {model: statistical, a: 1.59, c: -0.10, max_mach: 0.9,\n"
+                                  "            wing_load_factor: {reference: 4, exponent: 0.5, wing_share: 0.2}}"
+                                  ).replace("design_speeds: {cruise: 250 kn}", "design_speeds: {dive: 300 kn}")
 
 
 def _specs():

@@ -106,6 +106,14 @@ RANGES = {
     ("time",): _r(0.0, 1.0e6, lo_open=True),
     ("reserve",): _r(0.0, 0.5),
     ("trapped",): _r(0.0, 0.1),
+    ("design_speeds", "cruise"): _r(0.0, 400.0, lo_open=True),
+    ("design_speeds", "dive"): _r(0.0, 500.0, lo_open=True),
+    ("cl_min",): _r(-3.0, -0.1),
+    ("lift_curve_slope",): _r(1.0, 7.0),
+    ("max_fuel",): _r(0.0, 1.0e6, lo_open=True),
+    ("wing_load_factor", "reference"): _r(1.5, 12.0),
+    ("wing_load_factor", "exponent"): _r(0.0, 1.5),
+    ("wing_load_factor", "wing_share"): _r(0.0, 1.0, lo_open=True, hi_open=True),
 }
 INTEGER_KEYS = {"engines", "engines_out"}
 
