@@ -204,7 +204,6 @@ class _Reader:
             tpath, rpath, tnode = tpath + (part,), rpath + (part,), tnode[part]
         if isinstance(tnode, dict):
             if M.is_table(tnode):
-                name = next(k for k in tnode if k != "mach")
                 raise fail("this is a Mach table: its breakpoints and values are the problem's structure "
                            "(its monotone interpolant is built from numbers), so a study cannot vary it; "
                            "write one base file per table")
