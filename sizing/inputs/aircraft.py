@@ -29,6 +29,8 @@ from .fields import (
 from .fields import positive as _positive
 from .fields import within as _within
 
+MAX_FIXED_MASS = 1.0e6     # crew or payload [kg]: above any aircraft built (common practice, no source)
+
 
 class _Table(Strict):
     mach: list[Number] = Field(min_length=2, description="strictly increasing Mach numbers from 0 up")
@@ -84,6 +86,17 @@ class CLMax(Strict):
         if v is not None and not (0.2 <= v <= 4.5):
             raise ValueError(f"CLmax {v:g} is outside the plausible range 0.2 to 4.5")
         return v
+
+    @model_validator(mode="after")
+    def _flaps_raise(self):
+        # high-lift devices raise the maximum lift coefficient (Raymer Table 12.4 lists the
+        # increments, all positive): a flapped CLmax below the clean one is a slip
+        for name in ("takeoff", "landing"):
+            v = getattr(self, name)
+            if v is not None and v < self.clean:
+                raise FieldError(name, f"{name} CLmax {v:g} is below the clean CLmax {self.clean:g}; "
+                                       f"flaps raise CLmax (swap the values?)")
+        return self
 
 
 class Aerodynamics(Strict):
@@ -157,7 +170,7 @@ class Aerodynamics(Strict):
 
 class Propulsion(Strict):
     type: Literal["turbojet", "turbofan-low-bypass", "turbofan-high-bypass", "turboprop", "piston"]
-    engines: int = Field(1, ge=1, le=8)
+    engines: int = Field(1, ge=1, le=8, strict=True)
     throttle_ratio: Number = 1.0
     afterburner: bool = False
     propeller_efficiency: Number = 0.8
@@ -215,7 +228,13 @@ class EmptyComponents(Strict):
             raise FieldError(("wing_load_factor", "wing_share"), "wing_share is for the statistical model; "
                              "the components model scales its wing term (wing) directly")
         _positive("wing", self.wing, 1000.0)
+        # installed engine mass: about 0.02 kg/N for jets, about 1 kg/kW for piston engines
+        # (Raymer Ch. 6 and 15, from memory); the ceilings guard against typing slips
+        top, text = ((0.01, "10 kg/kW") if units.is_dimension(self.propulsion, "mass_per_power")
+                     else (0.5, "0.5 kg/N"))
         _positive("propulsion", self.propulsion)
+        if not self.propulsion.si <= top:
+            raise FieldError("propulsion", f"propulsion {self.propulsion.text} is not plausible (at most {text})")
         if not (0.0 <= self.other < 1.0):
             raise FieldError("other", f"other {self.other:g} must be a fraction of takeoff mass in [0, 1)")
         return self
@@ -290,10 +309,16 @@ class Weights(Strict):
         for name in ("crew", "payload"):
             if not getattr(self, name).si >= 0:
                 raise FieldError(name, f"{name} cannot be negative, got {getattr(self, name).text}")
+            if not getattr(self, name).si <= MAX_FIXED_MASS:
+                raise FieldError(name, f"{name} {getattr(self, name).text} is not plausible (at most "
+                                       f"{MAX_FIXED_MASS:,.0f} kg)")
         _positive("max_fuel", self.max_fuel, 1.0e6)
         if self.max_payload is not None and not self.max_payload.si >= self.payload.si:
             raise FieldError("max_payload", f"max_payload {self.max_payload.text} is below the design payload "
                                             f"{self.payload.text}; the design must carry its own payload")
+        if self.max_payload is not None and not self.max_payload.si <= MAX_FIXED_MASS:
+            raise FieldError("max_payload", f"max_payload {self.max_payload.text} is not plausible (at most "
+                                            f"{MAX_FIXED_MASS:,.0f} kg)")
         if not self.crew.si + self.payload.si > 0:
             raise FieldError("payload", "crew plus payload must be positive: it is what the weight "
                                         "closure scales")

@@ -8,12 +8,13 @@ NaN-safe range checks the models use.
 from __future__ import annotations
 
 import math
+import re
 from typing import Annotated
 
 from pydantic import BaseModel, BeforeValidator, ConfigDict, WithJsonSchema, model_validator
 
 from ..common.errors import FieldError
-from .units import DIMENSIONS, Quantity, UnitError, parse, parse_fraction
+from .units import DIMENSIONS, Quantity, UnitError, finite, parse, parse_fraction, short_repr
 
 # a number, then a unit (which starts with a letter or a symbol, or is 1/...)
 DIMENSIONAL = r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*([^\s\d.+-]|1\s*/).*$"
@@ -98,13 +99,16 @@ def _number(v):
                 out = None
             if out is not None and math.isfinite(out):
                 return out
-            if out is None and _looks_dimensional(v):
-                raise ValueError(f"{v!r} has a unit, but this value is a plain number (dimensionless); "
+            if out is not None:
+                raise ValueError(f"{short_repr(v)} is not a finite number")
+            if _looks_dimensional(v):
+                raise ValueError(f"{short_repr(v)} has a unit, but this value is a plain number (dimensionless); "
                                  f"write it without the unit")
-        raise ValueError(f"{v!r} is not a number (this value is dimensionless)")
-    if not math.isfinite(v):
-        raise ValueError(f"{v!r} is not a finite number")
-    return float(v)
+        raise ValueError(f"{short_repr(v)} is not a number (this value is dimensionless)")
+    out = finite(v)
+    if not math.isfinite(out):
+        raise ValueError(f"{short_repr(v)} is not a finite number")
+    return out
 
 
 def _looks_dimensional(text: str) -> bool:
@@ -138,10 +142,30 @@ LoadFactor = _bounded(0.0, 15.0, open_lo=True)
 LiftCoefficient = _bounded(0.2, 4.5)
 
 
-def _text(v):
+# characters that would act on a terminal or a page instead of showing: control characters
+# (escape sequences, bells, carriage returns), line and paragraph separators, bidirectional
+# overrides that reorder what is shown
+_HIDDEN = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+
+
+def visible(v: str, what: str, allow: str = "") -> str:
+    """``v`` unless it holds a character that acts instead of showing (``allow`` lists
+    exceptions, e.g. newlines in a note); a ValueError naming it otherwise.
+
+    >>> visible("turn-4g", "id")
+    'turn-4g'
+    """
+    for m in _HIDDEN.finditer(v):
+        if m.group() not in allow:
+            raise ValueError(f"{what} {v!r} contains the control character {m.group()!r} (position "
+                             f"{m.start() + 1}); write it on one line with visible characters only")
+    return v
+
+
+def _text(v, what="text", allow="\n\t"):
     """Free text (title, note, names): numbers and dates are read as their text."""
     if isinstance(v, str):
-        return v
+        return visible(v, what, allow)
     if v is None:
         raise ValueError("no text given")
     if isinstance(v, (dict, list)):
@@ -150,13 +174,16 @@ def _text(v):
 
 
 Text = Annotated[str, BeforeValidator(_text), WithJsonSchema({"type": ["string", "number"]})]
+# one-line text (title, segment names): no control characters at all, newlines included
+Name = Annotated[str, BeforeValidator(lambda v: _text(v, "the name", "")),
+                 WithJsonSchema({"type": ["string", "number"]})]
 
 
 def _identifier(v):
     if isinstance(v, str):
         if not v.strip():
             raise ValueError("id is empty; give each requirement a short unique name such as 'turn-4g'")
-        return v
+        return visible(v, "id")
     raise ValueError(f"id {v!r} must be text: write a name such as 'turn-4g', or quote it (id: '{v}')")
 
 

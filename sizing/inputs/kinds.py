@@ -13,6 +13,7 @@ from .fields import (
     Length,
     LoadFactor,
     MachNumber,
+    Name,
     Number,
     Speed,
     Strict,
@@ -26,7 +27,7 @@ from .mission import flight_condition
 
 
 class After(Strict):
-    after: Text = Field(description="name of a mission segment: the weight at its end")
+    after: Name = Field(description="name of a mission segment: the weight at its end")
 
 
 class _Req(Strict):
@@ -64,12 +65,25 @@ class StallSpeed(_Req):
     _needs_speed = True
 
 
+def _turning(obj):
+    """A level turn needs a load factor above 1 (n = 1/cos(bank); Anderson, Aircraft
+    Performance and Design, Eq. 6.2): n <= 1 is wings-level flight, not a turn."""
+    if not obj.load_factor > 1.0:
+        raise FieldError("load_factor", f"a {obj.kind} needs load_factor above 1 (n = 1/cos(bank)), "
+                                        f"got {obj.load_factor:g}; n = 1 is wings-level flight")
+    return obj
+
+
 class SustainedTurn(_Req):
     kind: Literal["sustained-turn"]
     load_factor: LoadFactor
     mach: Optional[MachNumber] = None
     speed: Optional[Speed] = None
     _needs_speed = True
+
+    @model_validator(mode="after")
+    def _turn(self):
+        return _turning(self)
 
 
 class MaxMach(_Req):
@@ -122,6 +136,10 @@ class InstantaneousTurn(_Req):
     speed: Optional[Speed] = None
     _needs_speed = True
 
+    @model_validator(mode="after")
+    def _turn(self):
+        return _turning(self)
+
 
 class Takeoff(_Req):
     kind: Literal["takeoff"]
@@ -158,7 +176,7 @@ class Landing(_Req):
 class ClimbGradient(_Req):
     kind: Literal["climb-gradient"]
     gradient: Fraction
-    engines_out: int = Field(1, ge=0)
+    engines_out: int = Field(1, ge=0, strict=True)
     speed_ratio: Number = 1.2
 
     @model_validator(mode="after")

@@ -7,6 +7,7 @@ from pydantic import Field, field_validator, model_validator
 
 from ..common.errors import FieldError
 from ..physics.atmosphere import H_MAX, H_MIN
+from ..weights.mission import default_label
 from . import units
 from .fields import (
     Fraction,
@@ -14,10 +15,10 @@ from .fields import (
     Length,
     LoadFactor,
     MachNumber,
+    Name,
     Speed,
     Strict,
     TempDelta,
-    Text,
     Time,
 )
 from .fields import positive as _positive
@@ -43,8 +44,25 @@ def flight_condition(obj, need_speed: bool):
         raise FieldError("load_factor", f"load_factor {n:g} must lie in (0, 15]")
 
 
+# plausible fuel consumption: afterburning turbojets burn about 2 1/h, piston engines
+# about 0.5 lb/(hp*h) (Raymer Table 3.3, from memory); these ceilings are typing-slip
+# guards, several times those values (common practice, no source)
+TSFC_MAX = 5.0 / 3600.0          # 5 1/h [1/s]
+PSFC_MAX = 1.0e-5                # about 6 lb/(hp*h) [1/m]
+
+
+def fuel_rate(name, q):
+    """A fuel consumption: positive and below the plausible ceiling of its kind."""
+    _positive(name, q)
+    if q is not None:
+        top, text = (TSFC_MAX, "5 1/h") if units.is_dimension(q, "tsfc") else (PSFC_MAX, "6 lb/(hp*h)")
+        if not q.si <= top:
+            raise FieldError(name, f"{name} {q.text} is not plausible (at most {text})")
+    return q
+
+
 class _Segment(Strict):
-    name: Optional[Text] = None
+    name: Optional[Name] = None
 
 
 class FixedSegment(_Segment):
@@ -70,7 +88,7 @@ class _Flown(_Segment):
     @model_validator(mode="after")
     def _flown(self):
         flight_condition(self, need_speed=self.kind in ("combat", "maneuver"))
-        _positive("tsfc", self.tsfc)
+        fuel_rate("tsfc", self.tsfc)
         _positive("range", getattr(self, "range", None), 4.0e7)
         _positive("time", getattr(self, "time", None), 1.0e6)
         return self
@@ -103,17 +121,24 @@ class Mission(Strict):
 
     @model_validator(mode="after")
     def _names(self):
+        # reports label an unnamed segment "segment 3 (cruise)"; a user's name equal to
+        # another segment's label would make two rows of the fuel table look alike
+        labels = {default_label(s.kind, i): i for i, s in enumerate(self.segments) if not s.name}
         seen = {}
         for i, s in enumerate(self.segments):
             if s.name and s.name in seen:
                 raise FieldError(("segments", i, "name"), f"duplicate segment name {s.name!r} (also "
                                  f"segment {seen[s.name] + 1}); names must be unique")
+            if s.name and labels.get(s.name, i) != i:
+                raise FieldError(("segments", i, "name"), f"the name {s.name!r} is how reports label the "
+                                 f"unnamed segment {labels[s.name] + 1}; choose another name, or name "
+                                 f"segment {labels[s.name] + 1} too")
             if s.name:
                 seen[s.name] = i
             if s.kind != "fixed" and s.tsfc is None and self.tsfc is None:
                 raise FieldError(("segments", i), f"segment {i + 1} ({s.name or s.kind}) burns fuel but "
                                  f"no tsfc is given (mission.tsfc or the segment's own)")
-        _positive("tsfc", self.tsfc)
+        fuel_rate("tsfc", self.tsfc)
         _within("reserve", self.reserve, 0.0, 0.5, "0 to 50 %")
         _within("trapped", self.trapped, 0.0, 0.1, "0 to 10 %")
         return self

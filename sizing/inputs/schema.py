@@ -17,7 +17,7 @@ from ..common.errors import FieldError
 from ..physics.propulsion import PROPELLER_TYPES
 from . import units
 from .aircraft import Aircraft, EmptyComponents
-from .fields import Number, PowerToWeight, Strict, Text, WingLoading
+from .fields import Name, Number, PowerToWeight, Strict, WingLoading
 from .kinds import After, ClimbGradient, Requirement
 from .mission import Mission
 
@@ -43,7 +43,7 @@ class DesignSpace(Strict):
 
 
 class RequirementFile(Strict):
-    title: Text = "Untitled concept"
+    title: Name = "Untitled concept"
     aircraft: Aircraft
     mission: Optional[Mission] = None
     requirements: list[Requirement] = Field(min_length=1)

@@ -9,7 +9,6 @@ the line and the field path, what was wrong and what would fit.
 from __future__ import annotations
 
 import hashlib
-from pathlib import Path
 
 from pydantic import BaseModel, ValidationError
 
@@ -17,7 +16,7 @@ from ..common.errors import InputError
 from ..physics.propulsion import PROPELLER_TYPES
 from . import units
 from .locate import located
-from .reader import read_yaml
+from .reader import read_text, read_yaml
 from .schema import RequirementFile
 
 EMPTY = "the file is empty; a requirement file is a mapping with title, aircraft and requirements"
@@ -103,36 +102,13 @@ def load_text(text: str, filename: str = "<memory>") -> Spec:
     return validate(data, filename, lines, text)
 
 
-MAX_BYTES = 5_000_000     # a requirement file is a few kilobytes
-
-
 def load(path) -> Spec:
     """Read and validate a requirement file; raises :class:`InputError`.
 
-    The file is only read, never written.
+    The file is only read, never written; devices, folders and pipes are
+    refused (:func:`sizing.inputs.reader.read_text`).
     """
-    p = Path(path)
-    try:
-        size = p.stat().st_size
-        if size > MAX_BYTES:
-            raise InputError(f"the file has {size:,} bytes; a requirement file is YAML text of a few "
-                             f"kilobytes (is this the right file?)", str(path))
-        raw = p.read_bytes()
-    except OSError as e:
-        raise InputError(f"cannot read the file: {e.strerror or e}", str(path)) from None
-    if b"\x00" in raw:
-        line = raw.count(b"\n", 0, raw.index(b"\x00")) + 1
-        raise InputError("not a text file (it contains NUL bytes); a requirement file is YAML text",
-                         str(path), line)
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as e:
-        line = raw.count(b"\n", 0, e.start) + 1
-        raise InputError(f"not UTF-8 text (byte {raw[e.start]:#04x} at offset {e.start}); a requirement "
-                         f"file is YAML text, saved as UTF-8", str(path), line) from None
-    if text.startswith("\ufeff"):      # a byte-order mark some editors write
-        text = text[1:]
-    return load_text(text, str(path))
+    return load_text(read_text(path), str(path))
 
 
 def json_schema() -> dict:

@@ -145,10 +145,12 @@ def _parse(value, dimension: str) -> Quantity:
         raise UnitError(f"{value!r} does not start with a number; a {dim.name} is written as a number "
                         f"and a unit, e.g. {dim.examples}")
     number, unit_text = match.group(1), match.group(2)
-    # integers stay integers, as pint itself would read them (exact products)
-    mag_user = int(number) if number.lstrip("+-").isdigit() else float(number)
+    # integers of a plausible size stay integers, as pint itself would read them (exact
+    # products); longer ones become floats, and one past the float range is refused
+    digits = number.lstrip("+-")
+    mag_user = int(number) if digits.isdigit() and len(digits) <= 15 else float(number)
     if not math.isfinite(mag_user):
-        raise UnitError(f"{value!r} is not a finite number")
+        raise UnitError(f"{short_repr(value)} is not a finite number (too large for a {dim.name})")
     if not unit_text:
         raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
     ureg = registry()
@@ -176,9 +178,9 @@ def _parse(value, dimension: str) -> Quantity:
         raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
     for dims, factor in dim.accepts:
         if base.dimensionality == ureg.get_dimensionality(dims):
-            mag = float(base.magnitude) * factor
+            mag = finite(base.magnitude) * factor
             if not math.isfinite(mag):
-                raise UnitError(f"{value!r} is not a finite number")
+                raise UnitError(f"{short_repr(value)} is not a finite number (too large for a {dim.name})")
             return Quantity(mag, text, unit_text, one * factor)
     raise UnitError(f"{value!r} is {_dimension_words(base.dimensionality)}, not a {dim.name}; "
                     f"write it like {dim.examples}")
@@ -219,6 +221,24 @@ def describe(value) -> str:
     return type(value).__name__
 
 
+def finite(value) -> float:
+    """``float(value)``, or NaN for a number past the float range (a 400-digit integer).
+
+    >>> finite(10 ** 400), finite(3)
+    (nan, 3.0)
+    """
+    try:
+        return float(value)
+    except OverflowError:
+        return math.nan
+
+
+def short_repr(value) -> str:
+    """repr of a value, shortened to 60 characters (a 400-digit number stays readable)."""
+    text = repr(value)
+    return text if len(text) <= 60 else f"{text[:30]}...{text[-20:]} ({len(text)} characters)"
+
+
 def parse_fraction(value) -> float:
     """A dimensionless fraction: a number, or a string with ``%``.
 
@@ -229,7 +249,7 @@ def parse_fraction(value) -> float:
         raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage such as '6 %'")
     out = None
     if isinstance(value, (int, float)):
-        out = float(value)
+        out = finite(value)
     elif isinstance(value, str):
         text = value.strip()
         try:
@@ -237,10 +257,10 @@ def parse_fraction(value) -> float:
         except ValueError:
             out = None
     if out is None:
-        raise UnitError(f"{value!r} is not a fraction; write a number such as 0.06 or a percentage "
+        raise UnitError(f"{short_repr(value)} is not a fraction; write a number such as 0.06 or a percentage "
                         f"such as '6 %'")
     if not math.isfinite(out):
-        raise UnitError(f"{value!r} is not a finite number")
+        raise UnitError(f"{short_repr(value)} is not a finite number")
     return out
 
 

@@ -133,7 +133,7 @@ def other_costs(prob, x, lam_g, p, tree):
     if j is not None:
         out.append(("payload (growth factor)", float(dL[j]), "kg per kg"))
     for i, seg in enumerate((tree.get("mission") or {}).get("segments", [])):
-        name = seg.get("name") or f"{seg['kind']}-{i + 1}"
+        name = Wt.segment_label(seg, i)
         if seg["kind"] == "cruise":
             j = idx.get(("mission", "segments", i, "range"))
             if j is not None:

@@ -37,8 +37,9 @@ from pathlib import Path
 import numpy as np
 
 from ..common.errors import InputError
-from ..inputs.reader import read_yaml
+from ..inputs.reader import read_text, read_yaml
 from ..inputs.spec import load, validate
+from ..inputs.units import finite, short_repr
 from ..problem import tree as M
 
 STUDY_KEYS = ("title", "base", "sweep", "sample")
@@ -107,9 +108,13 @@ def _split_value(v):
     if isinstance(v, bool):
         return None
     if isinstance(v, (int, float)):
-        return float(v), ""
-    m = _NUM_UNIT.match(v) if isinstance(v, str) else None
-    return (float(m.group(1)), m.group(2)) if m else None
+        num, unit = finite(v), ""
+    else:
+        m = _NUM_UNIT.match(v) if isinstance(v, str) else None
+        if m is None:
+            return None
+        num, unit = float(m.group(1)), m.group(2)
+    return (num, unit) if math.isfinite(num) else None
 
 
 def _as_raw(num: float, unit: str):
@@ -159,7 +164,11 @@ class _Reader:
     def value(self, v, key, fld):
         sv = _split_value(v)
         if sv is None:
-            raise self.err(f"{v!r} is not a value (a number, or a number with a unit such as '700 m')", key, fld)
+            finite_form = isinstance(v, (int, float)) and not isinstance(v, bool) or \
+                isinstance(v, str) and _NUM_UNIT.match(v)
+            raise self.err(f"{short_repr(v)} is not a finite number" if finite_form else
+                           f"{short_repr(v)} is not a value (a number, or a number with a unit such as "
+                           f"'700 m')", key, fld)
         return sv
 
     def resolve(self, text, key) -> Varied:
@@ -298,7 +307,11 @@ class _Reader:
                 if unit != unit_b or a == b:
                     raise self.err("write from and to in the same unit" if unit != unit_b else
                                    "from and to are equal; give a list for a single value", key + ("to",), fld)
-                user = np.linspace(a, b, steps)
+                with np.errstate(all="ignore"):
+                    user = np.linspace(a, b, steps)
+                if not np.all(np.isfinite(user)):
+                    raise self.err(f"from {_shown(a, unit)} to {_shown(b, unit)} spans more than a number "
+                                   f"can hold", key + ("to",), fld)
                 ends = {a: key + ("from",), b: key + ("to",)}
                 si = self.si(t, user, unit, lambda d: ends.get(d, key))
             else:
@@ -357,7 +370,10 @@ class _Reader:
                     (kind == "triangular" and nums[0] <= nums[1] <= nums[2] and nums[0] < nums[2])):
                 raise self.err(f"{kind} needs " + {"normal": "std > 0", "uniform": "low < high",
                                                    "triangular": "low <= mode <= high, low < high"}[kind], kkey, fld)
-            draws = getattr(rng, kind)(*nums, count)
+            with np.errstate(all="ignore"):
+                draws = getattr(rng, kind)(*nums, count)
+            if not np.all(np.isfinite(draws)):
+                raise self.err(f"the {kind} distribution draws values past what a number can hold", kkey, fld)
             lo, hi = float(draws.min()), float(draws.max())
             try:
                 s_lo, s_hi = (self.check([(t, v, unit)], kkey, fld)[0] for v in (lo, hi))
@@ -385,10 +401,7 @@ def load_study(source, base_dir=None) -> Study:
         folder = Path(base_dir) if base_dir is not None else Path(".")
     else:
         study_file = str(source)
-        try:
-            text = Path(source).read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError) as e:
-            raise InputError(f"cannot read the study file: {getattr(e, 'strerror', None) or e}", study_file) from None
+        text = read_text(source, "a study file")
         data, lines = read_yaml(text, study_file, "the study file is empty; a study is a mapping with base "
                                                   "and sweep (or sample)")
         folder = Path(base_dir) if base_dir is not None else Path(source).parent

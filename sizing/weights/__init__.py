@@ -20,13 +20,16 @@ from .empty import (
 from .mission import (
                       breguet_cruise_fraction,
                       breguet_loiter_fraction,
+                      default_label,
                       fuel_fraction,
                       fuel_fraction_from_segments,
                       has_mission_fuel,
                       mission_fractions,
                       segment_end_fractions,
+                      segment_label,
 )
 
 __all__ = ["STATISTICAL_PRESETS", "breguet_cruise_fraction", "breguet_loiter_fraction", "closure_mass",
-           "design_load_factor", "empty_fraction", "empty_fraction_of", "required_load_factors", "empty_fraction_power_law", "empty_fraction_refined", "fuel_fraction",
-           "fuel_fraction_from_segments", "has_mission_fuel", "mission_fractions", "segment_end_fractions"]
+           "default_label", "design_load_factor", "empty_fraction", "empty_fraction_of", "empty_fraction_power_law",
+           "empty_fraction_refined", "fuel_fraction", "fuel_fraction_from_segments", "has_mission_fuel",
+           "mission_fractions", "required_load_factors", "segment_end_fractions", "segment_label"]

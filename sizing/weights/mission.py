@@ -77,11 +77,32 @@ def _segment_speed(seg, air):
     return seg.get("speed")
 
 
+def segment_label(seg: dict, i: int) -> str:
+    """The name a report shows for segment ``i`` (0-based): the user's name, or
+    ``"segment 3 (cruise)"`` for an unnamed one.
+
+    A label of an unnamed segment is for display only: ``weight_fraction:
+    {after: ...}`` resolves against the names the user wrote
+    (:func:`segment_end_fractions`), and the file format refuses a user name
+    equal to another segment's label, so labels never collide.
+
+    >>> segment_label({"kind": "cruise"}, 2), segment_label({"kind": "cruise", "name": "out"}, 2)
+    ('segment 3 (cruise)', 'out')
+    """
+    return seg.get("name") or default_label(seg["kind"], i)
+
+
+def default_label(kind: str, i: int) -> str:
+    """The label of an unnamed segment ``i`` (0-based) of a kind."""
+    return f"segment {i + 1} ({kind})"
+
+
 def mission_fractions(tree: dict, ac, W_S):
     """Weight fraction of every mission segment at wing loading W_S.
 
-    Returns a list of (name, W_i/W_(i-1), beta_end) with beta_end the weight
-    at the end of the segment over takeoff weight. Each segment's L/D comes
+    Returns a list of (label, W_i/W_(i-1), beta_end) with beta_end the weight
+    at the end of the segment over takeoff weight and label from
+    :func:`segment_label`. Each segment's L/D comes
     from the drag polar at its start weight fraction, W_S and condition.
     """
     mis = tree["mission"]
@@ -91,7 +112,7 @@ def mission_fractions(tree: dict, ac, W_S):
     beta = 1.0
     out = []
     for i, seg in enumerate(mis["segments"]):
-        name = seg.get("name") or f"{seg['kind']}-{i + 1}"
+        name = segment_label(seg, i)
         kind = seg["kind"]
         if kind == "fixed":
             f = seg["fraction"]
@@ -135,13 +156,15 @@ def has_mission_fuel(tree: dict) -> bool:
 def segment_end_fractions(tree: dict, ac, W_S, segments=None) -> dict:
     """{segment name: W_end/W_TO} at W_S, for ``weight_fraction: {after: ...}``.
 
-    Empty when the fuel is a fixed fraction. ``segments`` reuses an already
-    computed :func:`mission_fractions` list.
+    Only the names the user wrote are keys (an unnamed segment cannot be
+    referred to). Empty when the fuel is a fixed fraction. ``segments`` reuses
+    an already computed :func:`mission_fractions` list.
     """
     if not has_mission_fuel(tree):
         return {}
     segments = mission_fractions(tree, ac, W_S) if segments is None else segments
-    return {name: be for name, _f, be in segments}
+    return {seg["name"]: be for seg, (_label, _f, be) in zip(tree["mission"]["segments"], segments)
+            if seg.get("name")}
 
 
 def fuel_fraction(tree: dict, ac, W_S, segments=None):
