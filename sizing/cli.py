@@ -1,12 +1,14 @@
 """The ``sizing`` console script: argument parsing, exit codes, printing.
 
-Exit codes: 0 solved; 2 bad input (YAML, schema, units, values); 3
-infeasible requirement set; 1 anything else. No traceback unless --debug.
+Exit codes: 0 solved; 2 bad input (YAML, schema, units, values, output
+locations); 3 infeasible requirement set; 130 stopped by Ctrl-C (SIGINT), 143
+by SIGTERM; 1 anything else. No traceback unless --debug.
 """
 from __future__ import annotations
 
 import argparse
 import os
+import signal
 import sys
 
 from .common.caution import CAUTION
@@ -41,6 +43,8 @@ def _parser() -> argparse.ArgumentParser:
     st.add_argument("--workers", type=int, default=None, help="local processes (default: all cores)")
     st.add_argument("--dask", metavar="ADDRESS", help="run on a Dask distributed scheduler")
     st.add_argument("--limit", type=int, default=None, help="run only the first N points (quick checks)")
+    st.add_argument("--progress", action="store_true", default=None,
+                    help="show the progress bar even when stderr is not a terminal (logs)")
 
     e = sub.add_parser("envelope", parents=[common], help="altitude-Mach envelope check of the sized design, "
                                                            "coffin corner and zoom")
@@ -288,7 +292,7 @@ def cmd_study(args) -> int:
     from .studies.plots import summary, write_outputs
     from .studies.runner import run_study
 
-    result = run_study(args.file, workers=args.workers, dask=args.dask, limit=args.limit)
+    result = run_study(args.file, workers=args.workers, dask=args.dask, limit=args.limit, progress=args.progress)
     written = write_outputs(result, args.output)
     print(summary(result))
     for w in written:
@@ -312,10 +316,12 @@ COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagr
 def main(argv=None) -> int:
     args = _parser().parse_args(argv)
     debug = getattr(args, "debug", False)
+    from .common import stop
     from .common.errors import InputError, SizingError
 
     try:
-        return COMMANDS[args.command](args)
+        with stop.handling():
+            return COMMANDS[args.command](args)
     except InputError as e:
         if debug:
             raise
@@ -326,9 +332,12 @@ def main(argv=None) -> int:
             raise
         print(f"error: {e}", file=sys.stderr)
         return EXIT_ERROR
-    except KeyboardInterrupt:
-        print("interrupted", file=sys.stderr)
-        return EXIT_ERROR
+    except KeyboardInterrupt as e:
+        # every output is written whole or not at all (atomic files, a study's folder
+        # swapped in at the end), so a stop leaves nothing half-written
+        signum = getattr(e, "signum", signal.SIGINT)
+        print(f"interrupted: {stop.Interrupted(signum)}; no further output was written", file=sys.stderr)
+        return 128 + signum
     except BrokenPipeError:      # output piped into head and the like
         try:
             sys.stdout = open(os.devnull, "w")

@@ -32,6 +32,7 @@ import casadi as ca
 import numpy as np
 
 from .. import weights as Wt
+from ..common import stop
 from ..common.errors import SolverError
 from ..physics.atmosphere import isa
 from . import tree as M
@@ -162,6 +163,7 @@ def _elastic(prob, p, slacks):
         x0 = prob.start_point(pv)
         z0 = np.concatenate([x0, [u for u, _ in ud], [d for _, d in ud]])
         sol = solver(x0=z0, p=par, lbx=lbx, ubx=ubx, lbg=prob.lbg, ubg=prob.ubg)
+        stop.check()
         if solver.stats().get("return_status") not in _OK:
             continue
         z = np.clip(np.array(sol["x"]).ravel(), lbx, ubx)

@@ -29,6 +29,7 @@ import numpy as np
 
 from .. import constraints as C
 from .. import weights as Wt
+from ..common import stop
 from ..physics.propulsion import is_propeller
 from . import tree as M
 from .package import ACTIVE_TOL, mission_drives, package  # noqa: F401 (ACTIVE_TOL re-exported)
@@ -235,12 +236,17 @@ class Problem:
     def start_point(self, p, n=48):
         """Best point of a coarse numpy scan over W/S (the spreadsheet way), clipped to the
         bounds; sets :attr:`scan_found_design` (see :func:`sizing.problem.start.scan`)."""
+        stop.check()        # a stop request CasADi swallowed during a solve before this scan
         x0, self.scan_found_design = scan(self, p, n)
         return x0
 
     # --------------------------------------------------------------------- solve
     def solve_raw(self, p=None, x0=None, lam_g0=None, lam_x0=None):
-        """One IPOPT solve; returns (x, lam_g, lam_x, stats, verified: bool)."""
+        """One IPOPT solve; returns (x, lam_g, lam_x, stats, verified: bool).
+
+        Raises :class:`sizing.common.stop.Interrupted` on a stop request (Ctrl-C,
+        SIGTERM), also one that arrived while IPOPT ran."""
+        stop.check()
         p = self.p0 if p is None else np.asarray(p, dtype=float)
 
         def attempts():
@@ -268,6 +274,7 @@ class Problem:
             elif mode == "scan" and not self.scan_found_design:
                 solver = self._expecting_infeasible()
             sol = solver(**args)
+            stop.check()
             stats = solver.stats()
             x = np.array(sol["x"]).ravel()
             ok_status = stats.get("return_status") in ("Solve_Succeeded", "Solved_To_Acceptable_Level")

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..common import stop
 from ..common.errors import InputError, SizingError
 from ..inputs.spec import validate
 from ..physics.atmosphere import g0 as G0
@@ -257,12 +258,36 @@ def _mp_context():
     return mp.get_context("spawn")
 
 
+def _start_worker(job, parent_pid):
+    """Worker start: signals left to the parent, death with the parent, the problem built once."""
+    stop.worker_signals(parent_pid)
+    _context(job)
+
+
 def _run_pool(job, chunks, workers):
+    import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
     # each worker builds its problem once, at start (the job is small: raw data, no Problem)
-    with ProcessPoolExecutor(workers, mp_context=_mp_context(), initializer=_context, initargs=(job,)) as ex:
+    before = set(mp.active_children())
+    ex = ProcessPoolExecutor(workers, mp_context=_mp_context(), initializer=_start_worker,
+                             initargs=(job, os.getpid()))
+    finished = False
+    try:
         yield from (f.result() for f in as_completed([ex.submit(_run_chunk, job, ch) for ch in chunks]))
+        finished = True
+    finally:
+        if not finished:
+            # interrupted (or a chunk raised): end the workers now rather than after their
+            # queued chunks; they ignore Ctrl-C and die at once on SIGTERM
+            ours = [p for p in mp.active_children() if p not in before]
+            for p in ours:
+                p.terminate()
+            for p in ours:
+                p.join(2.0)
+                if p.is_alive():
+                    p.kill()
+        ex.shutdown(wait=True, cancel_futures=not finished)
 
 
 def _run_dask(job, chunks, address):
@@ -347,20 +372,25 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     nw = 0 if dask is not None else min(int(workers or os.cpu_count() or 1), len(chunks)) or 1
     executor = "dask" if dask is not None else ("serial" if nw == 1 else "processes")
     bar = Progress(n, label="study", enabled=progress)
-    t0 = time.perf_counter()
-    results = (_run_dask(job, chunks, dask) if dask is not None else
-               _run_serial(job, chunks) if nw == 1 else _run_pool(job, chunks, nw))
     code, out = np.full(n, 2, dtype=np.int8), np.full((n, 4), np.nan)
     drivers = np.array([""] * n, dtype=object)
     iters = fallbacks = 0
-    try:
-        for r in results:
-            code[r["idx"]], out[r["idx"]], drivers[r["idx"]] = r["code"], r["out"], r["drivers"]
-            iters, fallbacks = iters + int(r["iterations"].sum()), fallbacks + r["fallbacks"]
-            bar.update(len(r["idx"]))
-    finally:
-        bar.close()
-    elapsed = time.perf_counter() - t0
+    # Ctrl-C or SIGTERM stop the study within a solve: Interrupted propagates, the
+    # workers are ended, and no result (so no output) exists
+    with stop.handling():
+        t0 = time.perf_counter()
+        results = (_run_dask(job, chunks, dask) if dask is not None else
+                   _run_serial(job, chunks) if nw == 1 else _run_pool(job, chunks, nw))
+        try:
+            for r in results:
+                code[r["idx"]], out[r["idx"]], drivers[r["idx"]] = r["code"], r["out"], r["drivers"]
+                iters, fallbacks = iters + int(r["iterations"].sum()), fallbacks + r["fallbacks"]
+                bar.update(len(r["idx"]))
+                stop.check()
+        finally:
+            results.close()
+            bar.close()
+        elapsed = time.perf_counter() - t0
     cols = {v.path: study.user_values[:n, j] for j, v in enumerate(study.varied)}
     y_col = "power_to_weight_W_per_N" if study.base.is_propeller else "thrust_to_weight"
     table = pd.DataFrame({**cols, "status": [_CODES[int(c)] for c in code],
@@ -370,8 +400,9 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     if costs:
         from ..problem import solve
 
-        try:
-            base = solve(study.base)
-        except SizingError:          # no costs plot then; the study itself stands
-            base = None
+        with stop.handling():
+            try:
+                base = solve(study.base)
+            except SizingError:          # no costs plot then; the study itself stands
+                base = None
     return StudyResult(study, table, base, executor, nw, elapsed, iters, n, fallbacks)
