@@ -273,8 +273,8 @@ MEANINGLESS = [
     ("engines: 1", "engines: true", "aircraft.propulsion.engines",
      "whole number"),
     # ids and names print to terminals and pages: no escape sequences, no line breaks
-    ("id: approach-stall", 'id: "stall\\e[31m"', "requirements[0] (id stall\x1b[31m).id", "control character"),
-    ("id: approach-stall", 'id: "stall\\nnext"', "requirements[0] (id stall\nnext).id", "control character"),
+    ("id: approach-stall", 'id: "stall\\e[31m"', "requirements[0] (id 'stall\\x1b[31m').id", "control character"),
+    ("id: approach-stall", 'id: "stall\\nnext"', "requirements[0] (id 'stall\\nnext').id", "control character"),
     ("title: ", 'title: "A\\rB" #', "title", "control character"),
     # a level turn needs n > 1 (n = 1/cos(bank); Anderson, Aircraft Performance and Design, Eq. 6.2)
     ("load_factor: 4.0", "load_factor: 0.2", "requirements[1] (id turn-4g).load_factor", "above 1"),

@@ -47,7 +47,8 @@ def _locate(loc, data, lines, tail=()):
         if isinstance(node, list):
             label = f"[{item}]"
             if isinstance(nxt, dict) and isinstance(nxt.get("id"), (str, int, float)):
-                label += f" (id {nxt['id']})"
+                ident = str(nxt["id"])
+                label += f" (id {ident if ident.isprintable() else repr(ident)})"   # never raw escapes
             shown += label
         else:
             shown += ("." if shown else "") + str(item)
