@@ -144,9 +144,19 @@ def cmd_schema(args) -> int:
     return EXIT_OK
 
 
+def _outputs_writable(*paths):
+    """Every output path checked before the solve (a folder, a read-only place: exit 2)."""
+    from .common.fileio import check_writable
+
+    for p in paths:
+        if p:
+            check_writable(p)
+
+
 def cmd_diagram(args) -> int:
     from .charts.diagram import write_diagram
 
+    _outputs_writable(args.output, args.data)
     spec, res = _solve(args.file)
     written = write_diagram(spec, res, args.output, data=args.data, units=args.units)
     for w in written:
@@ -156,10 +166,11 @@ def cmd_diagram(args) -> int:
 
 
 def cmd_report(args) -> int:
-    from .reports.review import write_report
+    from .reports.review import report_format, write_report
 
+    _outputs_writable(args.output)
+    fmt = report_format(args.output, args.format)
     spec, res = _solve(args.file)
-    fmt = args.format or ("md" if args.output.endswith(".md") else "html")
     path = write_report(spec, res, args.output, fmt=fmt)
     print(f"wrote {path}")
     print(CAUTION)
@@ -174,6 +185,7 @@ def _solved_for_chart(args, default):
         args.output = default
     if args.output is not None:
         check_output(args.output)
+    _outputs_writable(args.output, args.data)
     spec, res = _solve(args.file)
     if not res.feasible:
         from .reports.summary import summary
@@ -289,11 +301,14 @@ def cmd_payload_range(args) -> int:
 
 
 def cmd_study(args) -> int:
-    from .studies.plots import summary, write_outputs
+    from .studies.definition import load_study
+    from .studies.plots import output_folder, summary, write_outputs
     from .studies.runner import run_study
 
-    result = run_study(args.file, workers=args.workers, dask=args.dask, limit=args.limit, progress=args.progress)
-    written = write_outputs(result, args.output)
+    study = load_study(args.file)            # bad input first, then the output folder, then the work
+    with output_folder(args.output) as folder:
+        result = run_study(study, workers=args.workers, dask=args.dask, limit=args.limit, progress=args.progress)
+        written = write_outputs(result, args.output, folder)
     print(summary(result))
     for w in written:
         print(f"wrote {w}")

@@ -122,9 +122,10 @@ def envelope_section(spec, res):
              "fraction, temperature, lapse, configuration and throttle. The coffin corner is where the 1 g stall "
              "(or buffet) Mach meets the Mach limit; the zoom ceiling is the largest energy height h + V^2/(2 g) of "
              "the 1 g envelope, an upper bound with no drag losses.", "", "| quantity | value |", "|---|---|"]
-    lines += [f"| {r['quantity']} | {r['text'].replace('|', '/')} |" for r in env.rows]
+    lines += [f"| {md_cell(r['quantity'])} | {md_cell(r['text'].replace('|', '/'))} |" for r in env.rows]
     lines += ["", "| requirement | status | margin | own conditions |", "|---|---|---|---|"]
-    lines += [f"| {p.id} | {status_text(p)} | {p.detail} | {p.conditions} |" for p in env.points]
+    lines += [f"| {md_cell(p.id)} | {md_cell(status_text(p))} | {md_cell(p.detail)} | {md_cell(p.conditions)} |"
+              for p in env.points]
     return "\n".join(lines + [f"\nNote: {t}" for t in env.notes] + ["", CAUTION, ""]), render(env, "png")
 
 
@@ -146,8 +147,9 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True):
               ("caution", CAUTION)]
     st = res.stats or {}
     status = "optimal: every requirement met, weight closed" if res.feasible else "infeasible: no feasible design"
-    solver = (f"{st.get('return_status', 'n/a')}, {st.get('iterations', 'n/a')} iterations, "
-              f"{st.get('solve_time_s', 0.0) * 1000:.0f} ms")
+    # no solve time here: a rerun of the same file gives the same report, byte for byte
+    # (the terminal summary prints the time)
+    solver = f"{st.get('return_status', 'n/a')}, {st.get('iterations', 'n/a')} iterations"
     blocks += [("h", 2, "Solver status"),
                ("table", ["item", "value"], [["status", status], ["objective", res.objective],
                                               ["solver", solver]])]
@@ -251,11 +253,34 @@ img{max-width:100%;height:auto;border:1px solid #ddd}
 """
 
 
+def md_escape(text) -> str:
+    r"""Text as Markdown shows it literally: Markdown's markup characters backslash-escaped,
+    and ``& < >`` as entities so an id such as ``<script>`` stays text (raw HTML passes
+    through Markdown renderers).
+
+    >>> md_escape("<script>a_b*</script>")
+    '&lt;script&gt;a\\_b\\*&lt;/script&gt;'
+    """
+    t = re.sub(r"([\\`*_\[\]])", r"\\\1", str(text))
+    return t.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def md_cell(x) -> str:
+    """A table cell's text: :func:`md_escape`, ``|`` escaped, one line."""
+    return md_escape(x).replace("|", "\\|").replace("\n", " ")
+
+
 def _md_inline_html(text):
-    t = html.escape(text)
+    held = []
+
+    def hold(m):
+        held.append(m.group(1))
+        return f"\x00{len(held) - 1}\x00"
+
+    t = html.escape(re.sub(r"\\(.)", hold, html.unescape(text)))      # backslash escapes kept literal
     t = re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", t)
     t = re.sub(r"`(.+?)`", r"<code>\1</code>", t)
-    return t
+    return re.sub("\x00(\\d+)\x00", lambda m: html.escape(held[int(m.group(1))]), t)
 
 
 def md_to_html(text: str) -> str:
@@ -281,7 +306,8 @@ def md_to_html(text: str) -> str:
             while i < len(lines) and lines[i].strip().startswith("|"):
                 rows.append(lines[i].strip())
                 i += 1
-            cells = [[c.strip() for c in r.strip("|").split("|")] for r in rows]
+            cells = [[c.strip() for c in re.split(r"(?<!\\)\|", r[1:-1] if r.endswith("|") else r[1:])]
+                     for r in rows]                       # an escaped \| stays in its cell
             body = [c for c in cells[1:] if not all(re.fullmatch(r":?-{2,}:?", x) for x in c)]
             out.append(_html_table(cells[0], body, inline=_md_inline_html))
             continue
@@ -338,28 +364,24 @@ def to_html(blocks) -> str:
     return "\n".join(parts)
 
 
-def _md_cell(x) -> str:
-    return str(x).replace("|", "\\|").replace("\n", " ")
-
-
 def to_markdown(blocks) -> str:
     out = []
     for b in blocks:
         kind = b[0]
         if kind == "h":
-            out += ["#" * b[1] + " " + b[2], ""]
+            out += ["#" * b[1] + " " + md_escape(b[2]).replace("\n", " "), ""]
         elif kind == "p":
-            out += [b[1], ""]
+            out += [md_escape(b[1]), ""]
         elif kind == "table":
-            out.append("| " + " | ".join(_md_cell(h) for h in b[1]) + " |")
+            out.append("| " + " | ".join(md_cell(h) for h in b[1]) + " |")
             out.append("|" + "---|" * len(b[1]))
-            out += ["| " + " | ".join(_md_cell(c) for c in r) + " |" for r in b[2]]
+            out += ["| " + " | ".join(md_cell(c) for c in r) + " |" for r in b[2]]
             out.append("")
         elif kind == "img":
             data = base64.b64encode(b[2]).decode("ascii")
-            out += [f"![{b[1]}](data:image/png;base64,{data})", ""]
+            out += [f"![{md_escape(b[1])}](data:image/png;base64,{data})", ""]
         elif kind == "caution":
-            out += [f"> **{b[1]}**", ""]
+            out += [f"> **{md_escape(b[1])}**", ""]
         elif kind == "md":
             out += [b[1].rstrip(), ""]
         elif kind == "pre":
@@ -373,6 +395,26 @@ def render_report(spec, res, fmt="html", **kwargs) -> str:
         raise ValueError(f"report format must be 'html' or 'md', got {fmt!r}")
     blocks = document(spec, res, **kwargs)
     return to_html(blocks) if fmt == "html" else to_markdown(blocks)
+
+
+REPORT_SUFFIXES = {".html": "html", ".htm": "html", ".md": "md", ".markdown": "md"}
+
+
+def report_format(output, fmt=None) -> str:
+    """"html" or "md" for an output path (and an optional --format); InputError (exit 2) for a
+    suffix the report cannot be, such as .pdf (print the HTML report to PDF from a browser)."""
+    from ..common.errors import InputError
+
+    suffix = Path(str(output)).suffix.lower()
+    by_suffix = REPORT_SUFFIXES.get(suffix)
+    if by_suffix is None:
+        raise InputError(f"{str(output)!r}: the review report is HTML or Markdown, so name it .html or .md "
+                         f"(got {suffix or 'no suffix'}); for a PDF, print the HTML report from a browser",
+                         field="-o/--output")
+    if fmt is not None and fmt != by_suffix:
+        raise InputError(f"{str(output)!r}: --format {fmt} does not match the suffix {suffix}",
+                         field="-o/--output")
+    return by_suffix
 
 
 def write_report(spec, res, output, fmt="html") -> str:

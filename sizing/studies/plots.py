@@ -53,31 +53,53 @@ class Progress:
             self.stream.flush()
 
 
-def write_outputs(result, output_dir) -> list:
-    """results.csv, study.json and the plots; returns the written paths."""
+# every file a study writes; an output folder holding only these may be replaced
+OUTPUT_NAMES = ("results.csv", "study.json", "mass.png", "carpet.png", "drivers-map.png",
+                "mass-distribution.png", "costs.png")
+
+
+def output_folder(output_dir):
+    """The study's output folder, checked before any point is solved: a file in the way,
+    a place that cannot be written or a folder of other files is an InputError (exit 2)."""
+    from ..common.fileio import FolderSwap
+
+    return FolderSwap(output_dir, OUTPUT_NAMES)
+
+
+def write_outputs(result, output_dir, folder=None) -> list:
+    """results.csv, study.json and the plots; returns the written paths.
+
+    The set is written into a fresh staging folder and swapped in whole
+    (:class:`sizing.common.fileio.FolderSwap`): an earlier study's files that
+    this one does not produce are gone, an interrupted write leaves the earlier
+    set as it was, and two studies writing to one folder never mix. ``folder``
+    is the :func:`output_folder` made (and checked) before the study ran.
+    """
     import json
 
     from ..common.caution import CAUTION
     from ..common.fileio import atomic_write
 
-    out = Path(output_dir)
-    written = [atomic_write(out / "results.csv", result.table.to_csv(index=False, float_format="%.10g"))]
-    st = result.study
-    meta = {
-        "title": st.title, "study_file": st.file, "base_file": st.base_file, "base_sha256": st.base.sha256,
-        "mode": st.mode, "points": result.points, "of_points": st.size,
-        "parameters": [{"path": v.path, "unit": v.unit or None, "parameter_path": list(v.tree_path)}
-                       for v in st.varied],
-        "seed": st.seed, "distributions": st.distributions or None,
-        "feasible_fraction": _finite(result.feasible_fraction),
-        "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
-        "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
-        "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
-        "caution": CAUTION,
-    }
-    written.append(atomic_write(out / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
-    written += write_plots(result, out)
-    return written
+    with (folder or output_folder(output_dir)) as fs:
+        stage = fs.staging
+        written = [atomic_write(stage / "results.csv", result.table.to_csv(index=False, float_format="%.10g"))]
+        st = result.study
+        meta = {
+            "title": st.title, "study_file": st.file, "base_file": st.base_file, "base_sha256": st.base.sha256,
+            "mode": st.mode, "points": result.points, "of_points": st.size,
+            "parameters": [{"path": v.path, "unit": v.unit or None, "parameter_path": list(v.tree_path)}
+                           for v in st.varied],
+            "seed": st.seed, "distributions": st.distributions or None,
+            "feasible_fraction": _finite(result.feasible_fraction),
+            "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
+            "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
+            "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
+            "caution": CAUTION,
+        }
+        written.append(atomic_write(stage / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
+        written += write_plots(result, stage)
+        fs.commit()
+    return [fs.path / Path(w).name for w in written]
 
 
 def _finite(x):
