@@ -24,7 +24,6 @@ from sizing import cli
 from sizing import weights as Wt
 from sizing.common.errors import InputError
 from sizing.inputs.spec import load, load_text
-from sizing.problem import solve
 from sizing.problem import tree as M
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -67,15 +66,11 @@ def test_a_default_label_never_captures_a_users_after(tmp_path):
                 .replace("{after: outbound cruise}", "{after: cruise-3}"))
     f = tmp_path / "collide.yaml"
     f.write_text(text)
-    spec = load(f)
-    res = solve(spec)
-    stall = next(r for r in res.requirements if r.id == "approach-stall")
-    assert stall.beta == pytest.approx(0.970, abs=1e-12) and stall.beta_source == "after cruise-3"
-    labels = [name for name, _f, _m in res.fuel_breakdown]
-    assert labels[0] == "cruise-3" and labels[2] == "segment 3 (cruise)"
-    assert len(set(labels)) == len(labels)
     rc, out, _err = _main(["solve", str(f)])
-    assert rc == 0 and "weight fraction 0.970, after cruise-3" in out
+    assert rc == 0 and "weight fraction 0.970, after cruise-3]" in out
+    fuel = out.split("Mission fuel by segment\n", 1)[1].split("\n\n", 1)[0].splitlines()
+    assert fuel[0].split()[0] == "cruise-3" and fuel[2].startswith("  segment 3 (cruise) ")
+    assert "range of segment 3 (cruise)" in out
 
 
 BASE = """title: names
@@ -183,7 +178,7 @@ def test_utf16_without_mark_says_what_is_expected(tmp_path):
         load(f)
 
 
-@pytest.mark.parametrize("depth,line", [(100, 2), (3000, 2)])
+@pytest.mark.parametrize("depth,line", [(100, 2), (400, 2)])
 def test_deep_nesting_keeps_its_line(depth, line):
     text = "title: x\nnote: " + "[" * depth + "]" * depth + "\n"
     with pytest.raises(InputError) as e:
@@ -192,6 +187,8 @@ def test_deep_nesting_keeps_its_line(depth, line):
 
 
 def test_deep_block_mapping_keeps_its_line():
+    # deep enough that PyYAML's composer runs out of recursion: the line comes from the
+    # event stream instead
     text = "title: x\naircraft:\n" + "".join("  " * (i + 1) + f"k{i}:\n" for i in range(700)) + "  " * 701 + "v: 1\n"
     with pytest.raises(InputError) as e:
         load_text(text, "deep.yaml")

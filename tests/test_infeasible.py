@@ -190,7 +190,7 @@ def test_printed_relaxation_works_as_written(conflict, tmp_path):
     f = tmp_path / "conflict.yaml"
     f.write_text(text_of(CONFLICT, extra="design_space: {thrust_to_weight: [0, 0.8]}\n"))
     rc, out, err = _main(["solve", str(f)])
-    assert rc == 3 and "stall: speed " in out and "-> " + res.infeasibility.relaxations["stall"]["text"] in out
+    assert rc == 3 and "stall: speed: 40 kn -> speed: " + res.infeasibility.relaxations["stall"]["text"] in out
 
 
 def test_no_single_change_reports_the_joint_one():

@@ -122,7 +122,7 @@ def worker_signals(parent_pid: int) -> None:
     if not _parent_death_signal():
         threading.Thread(target=_watch_parent, args=(parent_pid,), daemon=True).start()
     if os.getppid() != parent_pid:      # the parent died before the watch began
-        os._exit(1)
+        os.kill(os.getpid(), signal.SIGKILL)
 
 
 def _parent_death_signal() -> bool:
@@ -143,4 +143,4 @@ def _watch_parent(parent_pid: int) -> None:
 
     while os.getppid() == parent_pid:
         time.sleep(0.5)
-    os._exit(1)
+    os.kill(os.getpid(), signal.SIGKILL)

@@ -41,8 +41,9 @@ from .result import Infeasibility, Result
 
 # plausible range of a relaxed value (SI): the same limits the requirement
 # file accepts (sizing.spec), so every reported value can be written back
+# (a turn's load factor must exceed 1: 1.01 is the least written to two decimals)
 _BOUNDS = {
-    "load_factor": (1.0, 15.0), "mach": (0.02, 5.0), "speed": (1.0, 1700.0),
+    "load_factor": (1.01, 15.0), "mach": (0.02, 5.0), "speed": (1.0, 1700.0),
     "altitude": (-4000.0, 80000.0), "climb_rate": (0.0, 500.0), "excess_power": (0.0, 500.0),
     "ground_roll": (1.0, 1.0e5), "gradient": (-0.1, 0.5),
 }
@@ -250,28 +251,40 @@ def _decimals(unit, value) -> int:
 
 def _shown(value_si, unit, scale, away):
     """(number, text) in the user's unit, rounded away from the original value
-    (``away`` > 0: up, < 0: down, 0: nearest)."""
+    (``away`` > 0: up, < 0: down, 0: nearest); the text is the value as a requirement
+    file writes it, so it pastes back: ``57556 ft`` (no thousands separator), ``5.01``
+    for a load factor, ``0.872`` for a Mach number, ``8.80 %``.
+
+    >>> _shown(57556.2 * 0.3048, "ft", 0.3048, +1)[1], _shown(5.004, "g", 1.0, +1)[1]
+    ('57557 ft', '5.01')
+    """
     v = value_si / scale
     d = _decimals(unit, v)
     k = 10.0 ** d
     r = (math.ceil(v * k) if away > 0 else math.floor(v * k) if away < 0 else round(v * k)) / k
     if abs(r) < 0.5 / k:
         r = 0.0
-    if unit == "Mach":
-        return r, f"M {r:.{d}f}"
-    if unit == "":
+    if unit in ("Mach", "g", ""):       # dimensionless in the file: a plain number
         return r, f"{r:.{d}f}"
-    sep = "" if unit == "%" else " "
-    return r, f"{r:,.{d}f}{sep}{unit}"
+    return r, f"{r:.{d}f} {unit}"
+
+
+def _written(spec, rid, field):
+    """The value of a requirement field exactly as the file gives it, or None."""
+    raw = next((r for r in spec.data.get("requirements", []) if isinstance(r, dict) and r.get("id") == rid), {})
+    v = raw.get(field)
+    return None if v is None or isinstance(v, (dict, list, bool)) else str(v).strip()
 
 
 def _entry(spec, s, value, together=False):
+    """One relaxation: the value in the user's unit and as the file writes it (``text``,
+    and ``yaml``: the ``key: value`` to paste into the requirement), the value it replaces."""
     unit, scale = user_unit(spec, s.rid, s.field)
     unit = "" if unit == "unit" else unit
     shown, text = _shown(value, unit, scale, np.sign(value - s.v0))
-    was = _shown(s.v0, unit, scale, 0)[1]
+    was = _written(spec, s.rid, s.field) or _shown(s.v0, unit, scale, 0)[1]
     return {"value": value / scale, "unit": unit, "text": text, "field": s.field, "from": was,
-            "shown": shown, "si": value, "together": together}
+            "yaml": f"{s.field}: {text}", "shown": shown, "si": value, "together": together}
 
 
 # --------------------------------------------------------------------------
@@ -314,8 +327,7 @@ def diagnose(prob, p, stats, spec=None):
                     conflicts.append(s.rid)
                     relax[s.rid] = _entry(spec, s, w, together=True)
                 explanation = ("no single requirement's change restores feasibility; these changes "
-                               "together do: " + "; ".join(f"{rid} {relax[rid]['field']} -> "
-                                                           f"{relax[rid]['text']}" for rid in conflicts))
+                               "together do: " + "; ".join(f"{rid} {relax[rid]['yaml']}" for rid in conflicts))
         if not conflicts:
             if stats.get("return_status") not in ("Infeasible_Problem_Detected",
                                                   "Converged_To_Local_Infeasibility", "Restoration_Failed"):

@@ -200,9 +200,10 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True):
             if inf.conflicts:
                 heading = relaxation_heading(inf)
                 blocks.append(("p", heading[0].upper() + heading[1:]))
-                blocks.append(("table", ["requirement", "field", "relaxed value"],
-                               [[rid, inf.relaxations[rid].get("field", ""), inf.relaxations[rid].get("text", "")]
-                                for rid in inf.conflicts]))
+                rel = inf.relaxations
+                blocks.append(("table", ["requirement", "now", "change to (as the file writes it)"],
+                               [[rid, f"{rel[rid].get('field', '')}: {rel[rid].get('from', '')}",
+                                 rel[rid].get("yaml") or rel[rid].get("text", "")] for rid in inf.conflicts]))
 
     if diagram:
         blocks += [("h", 2, "Constraint diagram"),

@@ -55,9 +55,11 @@ def relaxation_heading(inf) -> str:
 
 
 def relaxation_text(rid, rel) -> str:
-    """'stall: speed 40 kn -> 66.9 kn' for one relaxation."""
-    was = f"{rel['from']} -> " if rel.get("from") else "-> "
-    return f"{rid}: {rel.get('field', 'value')} {was}{rel.get('text', '?')}"
+    """'stall: speed: 40 kn -> speed: 66.9 kn' for one relaxation: the key and the value as
+    the requirement file writes them, so the part after '->' pastes back into the file."""
+    field = rel.get("field", "value")
+    was = f"{field}: {rel['from']} -> " if rel.get("from") else "-> "
+    return f"{rid}: {was}{rel.get('yaml') or f'{field}: ' + rel.get('text', '?')}"
 
 
 def summary(result, path: str = "") -> str:
