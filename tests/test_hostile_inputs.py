@@ -59,7 +59,7 @@ def _main(argv, limit_s=20):
 def test_a_default_label_never_captures_a_users_after(tmp_path):
     # The long-range example with its first segment named like the (former) default name
     # of the unnamed cruise: `after: cruise-3` is the weight after the FIRST segment, the
-    # written fraction 0.970 (Raymer Table 3.2 warm-up and takeoff value, as in the file).
+    # written fraction 0.970 (Raymer Table 3.2 warm-up and takeoff, docs/references.md §12.4).
     text = LONG_RANGE.read_text()
     text = (text.replace("name: warm-up and takeoff", "name: cruise-3")
                 .replace("kind: cruise, name: outbound cruise, ", "kind: cruise, ")
@@ -96,7 +96,8 @@ POOL = ["out", "back", "fixed-1", "fixed-2", "fixed-3", "fixed-4", "segment 1 (f
        pick=st.integers(0, 10))
 def test_generated_name_collisions(names, pick):
     # Hand calculation: with fixed segments only, the weight after segment j over takeoff
-    # weight is the product of the fractions written up to j (Raymer Ch. 3 mission fractions).
+    # weight is the product of the fractions written up to j (Raymer Ch. 3 mission
+    # fractions, docs/references.md §12.4).
     named = [i for i, n in enumerate(names) if n is not None]
     if not named:
         names[0], named = "out", [0]
@@ -163,7 +164,8 @@ def test_socket_and_oversized_file(tmp_path):
 
 @pytest.mark.parametrize("encoding", ["utf-16", "utf-32", "utf-16-be-bom", "utf-8-sig"])
 def test_other_unicode_encodings_with_a_byte_order_mark(tmp_path, encoding):
-    # Source: Unicode Standard, §23.8 (byte-order marks FE FF / FF FE / 00 00 FE FF / EF BB BF)
+    # Source: The Unicode Standard, byte-order marks FE FF / FF FE / 00 00 FE FF / EF BB BF
+    # (docs/references.md §17.9; from memory for the section)
     text = TRAINER.read_text()
     raw = b"\xfe\xff" + text.encode("utf-16-be") if encoding == "utf-16-be-bom" else text.encode(encoding)
     f = tmp_path / "enc.yaml"
@@ -273,10 +275,10 @@ MEANINGLESS = [
     ("id: approach-stall", 'id: "stall\\e[31m"', "requirements[0] (id 'stall\\x1b[31m').id", "control character"),
     ("id: approach-stall", 'id: "stall\\nnext"', "requirements[0] (id 'stall\\nnext').id", "control character"),
     ("title: ", 'title: "A\\rB" #', "title", "control character"),
-    # a level turn needs n > 1 (n = 1/cos(bank); Anderson, Aircraft Performance and Design, Eq. 6.2)
+    # a level turn needs n > 1 (n = 1/cos(bank), Gudmundsson Eq. (3-1), docs/references.md §6.1)
     ("load_factor: 4.0", "load_factor: 0.2", "requirements[1] (id turn-4g).load_factor", "above 1"),
     ("load_factor: 4.0", "load_factor: 1.0", "requirements[1] (id turn-4g).load_factor", "above 1"),
-    # flaps raise CLmax (Raymer Table 12.4: every high-lift increment is positive)
+    # flaps raise CLmax (typical flapped CLmax 1.4 to 3.0, docs/references.md §3.5)
     ("landing: 2.0", "landing: 1.1", "aircraft.aerodynamics.cl_max.landing", "below the clean CLmax"),
 ]
 

@@ -52,7 +52,8 @@ def _mode(p):
 # ------------------------------------------------------------------ file modes
 
 def test_new_files_follow_the_umask_and_replaced_files_keep_their_mode(tmp_path):
-    # Source: POSIX open(2)/umask(2): a created file's mode is the requested mode & ~umask
+    # Source: POSIX open() and umask(): a created file's mode is the requested mode & ~umask
+    # (docs/references.md §17.9)
     with _umask(0o022):
         assert _mode(atomic_write(tmp_path / "a.txt", "x")) == 0o644
     with _umask(0o027):

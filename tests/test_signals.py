@@ -3,7 +3,7 @@ a second with exit 130 / 143 (the shell convention 128 + signal number), its wor
 end with it (also when the parent is killed outright), and no partial output appears.
 
 The conventions are POSIX's and the shells' (exit status 128 + n for a process ended by
-signal n), the rest the project's contract.  # common practice, no source
+signal n; docs/references.md §17.9), the rest the project's contract.  # common practice, no source
 """
 from __future__ import annotations
 

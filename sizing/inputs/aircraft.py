@@ -89,8 +89,8 @@ class CLMax(Strict):
 
     @model_validator(mode="after")
     def _flaps_raise(self):
-        # high-lift devices raise the maximum lift coefficient (Raymer Table 12.4 lists the
-        # increments, all positive): a flapped CLmax below the clean one is a slip
+        # high-lift devices raise the maximum lift coefficient (typical flapped CLmax 1.4 to
+        # 3.0, docs/references.md §3.5): a flapped CLmax below the clean one is a slip
         for name in ("takeoff", "landing"):
             v = getattr(self, name)
             if v is not None and v < self.clean:
@@ -228,8 +228,8 @@ class EmptyComponents(Strict):
             raise FieldError(("wing_load_factor", "wing_share"), "wing_share is for the statistical model; "
                              "the components model scales its wing term (wing) directly")
         _positive("wing", self.wing, 1000.0)
-        # installed engine mass: about 0.02 kg/N for jets, about 1 kg/kW for piston engines
-        # (Raymer Ch. 6 and 15, from memory); the ceilings guard against typing slips
+        # installed engine mass is of order 0.02 kg/N (jets) or 1 kg/kW (piston engines); the
+        # ceilings, well above, guard against typing slips (common practice, no source)
         top, text = ((0.01, "10 kg/kW") if units.is_dimension(self.propulsion, "mass_per_power")
                      else (0.5, "0.5 kg/N"))
         _positive("propulsion", self.propulsion)

@@ -66,8 +66,8 @@ class StallSpeed(_Req):
 
 
 def _turning(obj):
-    """A level turn needs a load factor above 1 (n = 1/cos(bank); Anderson, Aircraft
-    Performance and Design, Eq. 6.2): n <= 1 is wings-level flight, not a turn."""
+    """A level turn needs a load factor above 1 (n = 1/cos(bank), Gudmundsson Eq. (3-1),
+    docs/references.md §6.1): n <= 1 is wings-level flight, not a turn."""
     if not obj.load_factor > 1.0:
         raise FieldError("load_factor", f"a {obj.kind} needs load_factor above 1 (n = 1/cos(bank)), "
                                         f"got {obj.load_factor:g}; n = 1 is wings-level flight")

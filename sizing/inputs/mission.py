@@ -44,9 +44,9 @@ def flight_condition(obj, need_speed: bool):
         raise FieldError("load_factor", f"load_factor {n:g} must lie in (0, 15]")
 
 
-# plausible fuel consumption: afterburning turbojets burn about 2 1/h, piston engines
-# about 0.5 lb/(hp*h) (Raymer Table 3.3, from memory); these ceilings are typing-slip
-# guards, several times those values (common practice, no source)
+# plausible fuel consumption: jets burn 0.4 to 0.9 1/h dry, propeller engines 0.4 to
+# 0.6 lb/(hp*h) (Raymer Tables 3.3 and 3.4, docs/references.md §12.7); the ceilings
+# are typing-slip guards several times those values (common practice, no source)
 TSFC_MAX = 5.0 / 3600.0          # 5 1/h [1/s]
 PSFC_MAX = 1.0e-5                # about 6 lb/(hp*h) [1/m]
 
