@@ -82,7 +82,7 @@ def no_solving(monkeypatch):
 STUDY = ROOT / "studies" / "trainer-turn-field.yaml"
 
 
-def test_study_output_that_is_a_file_or_unwritable_is_refused_first(tmp_path, no_solving):
+def test_study_output_that_is_a_file_or_unwritable_is_refused_first(tmp_path, no_solving, monkeypatch):
     f = tmp_path / "results"
     f.write_text("x")
     cases = [(f, "it is a file, not a folder"), (f / "sub", f"{f} is a file, not a folder")]
@@ -96,6 +96,11 @@ def test_study_output_that_is_a_file_or_unwritable_is_refused_first(tmp_path, no
     rc, _out, err = _main(["study", str(STUDY), "-o", str(tmp_path / "mine")])
     assert rc == 2 and "notes.txt" in err and "empty or new folder" in err
     assert (tmp_path / "mine" / "notes.txt").read_text() == "keep me"
+    monkeypatch.chdir(tmp_path / "mine")
+    (tmp_path / "mine" / "notes.txt").unlink()
+    for here in (".", ".."):        # the current folder (even empty) is never swapped away
+        rc, _out, err = _main(["study", str(STUDY), "-o", here])
+        assert rc == 2 and "current folder" in err, err
 
 
 @pytest.mark.skipif(os.geteuid() == 0, reason="root writes into a mode-0555 folder")

@@ -158,46 +158,52 @@ class FolderSwap:
     """
 
     def __init__(self, path, replaceable=()):
-        self.path = Path(path)
+        self.path = Path(path)                              # as given (for messages)
+        self.target = Path(os.path.realpath(path))          # the folder itself, links followed
         self.replaceable = frozenset(replaceable)
         self.committed = False
+        here = Path(os.path.realpath(os.getcwd()))
+        if self.target == here or self.target in here.parents:
+            raise InputError(f"cannot write the outputs to {self.path}: it is the current folder or holds "
+                             f"it, and the outputs replace the folder whole; give a subfolder", field=FIELD)
         self._refuse_foreign()
         try:
-            self.path.parent.mkdir(parents=True, exist_ok=True)
-            self.staging = Path(tempfile.mkdtemp(prefix=f".{self.path.name}.", suffix=".new",
-                                                 dir=str(self.path.parent)))
+            self.target.parent.mkdir(parents=True, exist_ok=True)
+            self.staging = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.", suffix=".new",
+                                                 dir=str(self.target.parent)))
         except OSError as e:
             raise _cannot(self.path, e, "write the outputs to") from None
         try:
-            os.chmod(self.staging, _new_mode(self.path, 0o777))
+            os.chmod(self.staging, _new_mode(self.target, 0o777))
         except OSError:
             pass
 
     def _refuse_foreign(self):
-        p = self.path
+        p = self.target
         if p.exists() and not p.is_dir():
-            raise InputError(f"cannot write the outputs to {p}: it is a file, not a folder", field=FIELD)
+            raise InputError(f"cannot write the outputs to {self.path}: it is a file, not a folder", field=FIELD)
         if p.is_dir():
             try:
                 names = sorted(os.listdir(p))
             except OSError as e:
-                raise _cannot(p, e, "write the outputs to") from None
+                raise _cannot(self.path, e, "write the outputs to") from None
             foreign = [n for n in names if n not in self.replaceable]
             if foreign:
                 shown = ", ".join(foreign[:3]) + (f" and {len(foreign) - 3} more" if len(foreign) > 3 else "")
-                raise InputError(f"cannot write the outputs to {p}: the folder holds files that are not a "
+                raise InputError(f"cannot write the outputs to {self.path}: the folder holds files that are not a "
                                  f"study's outputs ({shown}), and its old outputs are replaced as a whole; "
                                  f"give an empty or new folder", field=FIELD)
 
     def commit(self) -> None:
         """Swap the staging folder in for the old set (which is removed)."""
         old = None
-        with _locked(self.path.parent), _signals_held():
+        t = self.target
+        with _locked(t.parent), _signals_held():
             self._refuse_foreign()          # another process may have put something there meanwhile
-            if self.path.exists():
-                old = Path(tempfile.mkdtemp(prefix=f".{self.path.name}.", suffix=".old", dir=str(self.path.parent)))
-                os.replace(self.path, old / "set")
-            os.replace(self.staging, self.path)
+            if t.exists():
+                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.", suffix=".old", dir=str(t.parent)))
+                os.replace(t, old / "set")
+            os.replace(self.staging, t)
             self.committed = True
         if old is not None:
             shutil.rmtree(old, ignore_errors=True)
