@@ -16,6 +16,7 @@ from ..common.errors import FieldError
 from . import units
 from .fields import (
     ArealMass,
+    Count,
     EngineMass,
     Fraction,
     LiftCoefficient,
@@ -170,7 +171,7 @@ class Aerodynamics(Strict):
 
 class Propulsion(Strict):
     type: Literal["turbojet", "turbofan-low-bypass", "turbofan-high-bypass", "turboprop", "piston"]
-    engines: int = Field(1, ge=1, le=8, strict=True)
+    engines: Count = Field(1, ge=1, le=8)
     throttle_ratio: Number = 1.0
     afterburner: bool = False
     propeller_efficiency: Number = 0.8

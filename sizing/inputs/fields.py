@@ -162,6 +162,16 @@ def visible(v: str, what: str, allow: str = "") -> str:
     return v
 
 
+def _count(v):
+    """A whole number; YAML's true and false are not counts (pydantic would read them as 1 and 0)."""
+    if isinstance(v, bool):
+        raise ValueError(f"expected a whole number, got {str(v).lower()} (a count is written as a number)")
+    return v
+
+
+Count = Annotated[int, BeforeValidator(_count)]
+
+
 def _text(v, what="text", allow="\n\t"):
     """Free text (title, note, names): numbers and dates are read as their text."""
     if isinstance(v, str):

@@ -8,6 +8,7 @@ from pydantic import Field, field_validator, model_validator
 from ..common.errors import FieldError
 from . import units
 from .fields import (
+    Count,
     Fraction,
     Identifier,
     Length,
@@ -176,7 +177,7 @@ class Landing(_Req):
 class ClimbGradient(_Req):
     kind: Literal["climb-gradient"]
     gradient: Fraction
-    engines_out: int = Field(1, ge=0, strict=True)
+    engines_out: Count = Field(1, ge=0)
     speed_ratio: Number = 1.2
 
     @model_validator(mode="after")
