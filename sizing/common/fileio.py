@@ -180,13 +180,16 @@ class FolderSwap:
 
     def _refuse_foreign(self):
         p = self.target
-        if p.exists() and not p.is_dir():
-            raise InputError(f"cannot write the outputs to {self.path}: it is a file, not a folder", field=FIELD)
-        if p.is_dir():
-            try:
-                names = sorted(os.listdir(p))
-            except OSError as e:
-                raise _cannot(self.path, e, "write the outputs to") from None
+        try:
+            names = sorted(os.listdir(p))
+        except FileNotFoundError:          # no folder yet (or another study is swapping it in)
+            names = None
+        except NotADirectoryError:
+            raise InputError(f"cannot write the outputs to {self.path}: it is a file, not a folder",
+                             field=FIELD) from None
+        except OSError as e:
+            raise _cannot(self.path, e, "write the outputs to") from None
+        if names is not None:
             foreign = [n for n in names if n not in self.replaceable]
             if foreign:
                 shown = ", ".join(foreign[:3]) + (f" and {len(foreign) - 3} more" if len(foreign) > 3 else "")
