@@ -336,7 +336,13 @@ def main(argv=None) -> int:
 
     try:
         with stop.handling():
-            return COMMANDS[args.command](args)
+            try:
+                return COMMANDS[args.command](args)
+            except Exception:
+                # a stop request raised inside C code comes back as another error (a
+                # SystemError from a conversion, a failed solve): it is still the stop
+                stop.check()
+                raise
     except InputError as e:
         if debug:
             raise

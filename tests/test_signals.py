@@ -26,7 +26,7 @@ psutil = pytest.importorskip("psutil")
 ROOT = Path(__file__).resolve().parents[1]
 TRAINER = ROOT / "requirements" / "trainer-jet.yaml"
 SIZING = str(Path(sys.executable).with_name("sizing"))
-STOP_WITHIN_S = 1.5      # "within a second", with room for a busy shared machine
+STOP_WITHIN_S = 1.0      # "within a second"
 
 
 def _default_sigint():
@@ -46,25 +46,40 @@ def _start_study(tmp_path, workers):
     p = subprocess.Popen([SIZING, "study", str(study), "-o", str(out), "--workers", str(workers), "--progress"],
                          stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True,
                          preexec_fn=_default_sigint)
-    err = b""
-    os.set_blocking(p.stderr.fileno(), False)
-    deadline = time.monotonic() + 60
-    while b"points" not in err:            # the first progress line: points are being solved
-        assert p.poll() is None and time.monotonic() < deadline, err.decode()
-        time.sleep(0.02)
-        err += p.stderr.read() or b""
-    os.set_blocking(p.stderr.fileno(), True)
+    err = _read_until(p, b"points", 60)      # the first progress line: points are being solved
     return p, out, err
 
 
+def _read_until(p, word, limit_s):
+    """stderr of ``p`` until ``word`` appears (or the process ends, or the time is up)."""
+    err = b""
+    os.set_blocking(p.stderr.fileno(), False)
+    deadline = time.monotonic() + limit_s
+    try:
+        while word not in err and time.monotonic() < deadline:
+            err += p.stderr.read() or b""
+            if word in err or p.poll() is not None:
+                break
+            time.sleep(0.01)
+    finally:
+        os.set_blocking(p.stderr.fileno(), True)
+    assert word in err, err.decode()
+    return err
+
+
 def _stopped(p, sig, group):
+    """Send ``sig``; (exit code, seconds until the stop was reported, workers, stdout, stderr).
+    The time is to the "interrupted" message (the study has stopped); the interpreter's own
+    exit follows (checked to be prompt as well)."""
     workers = psutil.Process(p.pid).children(recursive=True)
     t0 = time.monotonic()
     (os.killpg if group else os.kill)(p.pid, sig)
-    rc = p.wait(30)
+    err = b"" if sig == signal.SIGKILL else _read_until(p, b"interrupted", 30)
     elapsed = time.monotonic() - t0
-    out, err = p.communicate(timeout=30)        # the rest of the output; closes the pipes
-    return rc, elapsed, workers, out, err
+    rc = p.wait(30)
+    assert time.monotonic() - t0 < 10 * STOP_WITHIN_S
+    out, rest = p.communicate(timeout=30)        # the rest of the output; closes the pipes
+    return rc, elapsed, workers, out, err + rest
 
 
 def _gone(procs, within_s=3.0):
@@ -122,7 +137,11 @@ def test_a_stop_swallowed_by_the_optimizer_is_raised_again():
             with stop.handling():
                 timer.start()
                 for _ in range(10_000):
-                    prob.solve_raw(p0)
+                    try:
+                        prob.solve_raw(p0)
+                    except Exception:      # the stop raised inside C code (a conversion, say)
+                        stop.check()       # comes back as another error: the CLI's rule
+                        raise
     finally:
         timer.cancel()
         signal.signal(signal.SIGINT, old)

@@ -184,7 +184,9 @@ class FolderSwap:
             names = sorted(os.listdir(p))
         except FileNotFoundError:          # no folder yet (or another study is swapping it in)
             names = None
-        except NotADirectoryError:
+        except NotADirectoryError as e:
+            if not p.exists():                 # a folder on the way is a file
+                raise _cannot(self.path, e, "write the outputs to") from None
             raise InputError(f"cannot write the outputs to {self.path}: it is a file, not a folder",
                              field=FIELD) from None
         except OSError as e:
