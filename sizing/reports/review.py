@@ -19,7 +19,7 @@ from pathlib import Path
 from ..common.caution import CAUTION
 from ..common.conversions import FT2, HP, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
-from .summary import cost_line, relaxation_heading
+from .summary import cost_line, md_cell, md_escape, relaxation_heading
 
 REPORT_DPI = 110
 
@@ -252,23 +252,6 @@ th{background:#eef3f8}tr:nth-child(even) td{background:#fafafa}
 img{max-width:100%;height:auto;border:1px solid #ddd}
 .meta{color:#555}
 """
-
-
-def md_escape(text) -> str:
-    r"""Text as Markdown shows it literally: Markdown's markup characters backslash-escaped,
-    and ``& < >`` as entities so an id such as ``<script>`` stays text (raw HTML passes
-    through Markdown renderers).
-
-    >>> md_escape("<script>a_b*</script>")
-    '&lt;script&gt;a\\_b\\*&lt;/script&gt;'
-    """
-    t = re.sub(r"([\\`*_\[\]])", r"\\\1", str(text))
-    return t.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-
-
-def md_cell(x) -> str:
-    """A table cell's text: :func:`md_escape`, ``|`` escaped, one line."""
-    return md_escape(x).replace("|", "\\|").replace("\n", " ")
 
 
 def _md_inline_html(text):

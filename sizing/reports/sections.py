@@ -12,12 +12,13 @@ import math
 from ..common.caution import CAUTION, LOADS_CAUTION
 from ..common.conversions import FT, KN, LB, NMI
 from ..common.errors import InputError
+from .summary import md_cell, md_escape
 
 SECTION_DPI = 110
 
 
 def _cell(text) -> str:
-    return str(text).replace("|", "/")
+    return md_cell(str(text).replace("|", "/"))      # what the user wrote stays text (ids, names)
 
 
 def _table(header, rows) -> list:
@@ -61,7 +62,7 @@ def turn_section(spec, res):
              f"the limit load factor {chart.n_limit:.2f} g ({chart.n_limit_source}). The corner speed is where CLmax "
              f"meets the limit load factor.", ""]
     lines += _table(["altitude", "corner speed", "best instantaneous rate", "best sustained rate"], rows)
-    pts = [f"- {p[0]}: {p[4]}" for lv in chart.levels for p in lv.points]
+    pts = [f"- {md_escape(p[0])}: {md_escape(p[4])}" for lv in chart.levels for p in lv.points]
     lines += ([""] + pts if pts else []) + [f"\nNote: {t}" for t in chart.notes] + ["", CAUTION, ""]
     return "\n".join(lines), render(chart, "png", dpi=SECTION_DPI)
 
@@ -84,7 +85,7 @@ def wat_section(spec, res):
                                               else "above the range" for c in cells])
     hh = chart.hot_and_high()
     lines = head + [f"Largest takeoff mass of the sized design (wing and engine fixed) that still meets its airfield "
-                    f"requirements ({', '.join(chart.requirements)}), by airfield elevation (at standard pressure) and "
+                    f"requirements ({md_escape(', '.join(chart.requirements))}), by airfield elevation (at standard pressure) and "
                     f"outside air temperature, from the same constraint functions as the sizing; the limiting "
                     f"requirement in parentheses. Design takeoff mass {chart.design_mass:,.0f} kg "
                     f"({chart.design_mass / LB:,.0f} lb).", ""]
@@ -110,7 +111,7 @@ def payload_range_section(spec, res):
     rows = [[CORNER_NAMES[c.name], "fuel too small" if not math.isfinite(c.range) else
              f"{c.range / 1000:,.0f} km ({c.range / NMI:,.0f} nmi)", f"{c.payload:,.0f} kg", f"{c.fuel:,.0f} kg",
              f"{c.takeoff_mass:,.0f} kg"] for c in pr.corners]
-    lines = head + [f"The mission flown with its cruise segment '{pr.segment}' lengthened or shortened (Breguet on "
+    lines = head + [f"The mission flown with its cruise segment '{md_escape(pr.segment)}' lengthened or shortened (Breguet on "
                     f"the sizing's polar and fuel consumption, the other segments and reserves as in the mission), "
                     f"for the sized design: empty {pr.empty:,.0f} kg, crew {pr.crew:,.0f} kg, maximum payload "
                     f"{pr.max_payload:,.0f} kg, fuel capacity {pr.max_fuel:,.0f} kg.", ""]

@@ -3,6 +3,7 @@ what a step of a requirement costs, what a relaxation says."""
 from __future__ import annotations
 
 import math
+import re
 
 from ..common.caution import CAUTION
 from ..common.conversions import HP, LB, LBF_FT2, N_PER_LBF
@@ -128,3 +129,20 @@ def summary(result, path: str = "") -> str:
     lines += ["", f"solver: {st.get('return_status')}, {st.get('iterations')} iterations, "
                   f"{st.get('solve_time_s', 0) * 1000:.0f} ms", "", CAUTION]
     return "\n".join(lines)
+
+
+def md_escape(text) -> str:
+    r"""Text as Markdown shows it literally: Markdown's markup characters backslash-escaped,
+    and ``& < >`` as entities so an id such as ``<script>`` stays text (raw HTML passes
+    through Markdown renderers).
+
+    >>> md_escape("<script>a_b*</script>")
+    '&lt;script&gt;a\\_b\\*&lt;/script&gt;'
+    """
+    t = re.sub(r"([\\`*_\[\]])", r"\\\1", str(text))
+    return t.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def md_cell(x) -> str:
+    """A table cell's text: :func:`md_escape`, ``|`` escaped, one line."""
+    return md_escape(x).replace("|", "\\|").replace("\n", " ")
