@@ -204,7 +204,7 @@ def test_markdown_and_html_escape_what_the_user_wrote():
     text = TRAINER.read_text().replace("id: approach-stall", "id: '<script>alert(1)</script>'", 1)
     spec = load_text(text, "x.yaml")
     res = solve(spec)
-    blocks = R.document(spec, res, diagram=False, envelope=False)
+    blocks = R.document(spec, res, diagram=False, envelope=False, flight=False)
     md = R.to_markdown(blocks)
     assert "<script>" not in md and "&lt;script&gt;alert(1)&lt;/script&gt;" in md
     page = R.to_html(blocks)
@@ -218,5 +218,5 @@ def test_html_report_is_byte_identical_on_a_rerun(solved):
     spec, res = solved["trainer-jet.yaml"]
     again = solve(spec)
     assert again.stats["solve_time_s"] != res.stats["solve_time_s"]           # timing differs ...
-    html = [R.to_html(R.document(spec, r, diagram=False, envelope=False)) for r in (res, again)]
+    html = [R.to_html(R.document(spec, r, diagram=False, envelope=False, flight=False)) for r in (res, again)]
     assert html[0] == html[1] and "iterations" in html[0]                     # ... the report not
