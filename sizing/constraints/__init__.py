@@ -41,28 +41,64 @@ References
 """
 from __future__ import annotations
 
-from .climb import ceiling, climb, climb_gradient, engine_out_climb_thrust
-from .field import landing, landing_wing_loading, takeoff, takeoff_ground_roll_thrust
-from .flight import (
-                     FT_PER_MIN,
-                     SERVICE_CEILING_CLIMB_RATE,
-                     Bound,
-                     condition,
-                     config_of,
-                     fixed_speed,
-                     flight_thrust,
-                     lapse,
-                     lift_limit,
-                     master_equation,
-                     to_sea_level,
+from .climb import CLIMB_SEGMENTS, SEGMENT_KEYS, ceiling, climb, climb_gradient, engine_out_climb_thrust, \
+    segment_defaults
+from .field import (
+    average_takeoff_thrust,
+    balanced_field_length,
+    balanced_field_of,
+    ground_roll_distance,
+    landing,
+    landing_air_distance,
+    landing_distance_of,
+    landing_distance_wing_loading,
+    landing_wing_loading,
+    takeoff,
+    takeoff_distance_of,
+    takeoff_ground_roll_thrust,
+    transition_climb_distance,
 )
-from .registry import KINDS, Kind, evaluate, free_speed_range, max_free_speed, required_curve
-from .speeds import cruise, max_mach, stall_speed
+from .flight import (
+    FT_PER_MIN,
+    SERVICE_CEILING_CLIMB_RATE,
+    SPEED_KEYS,
+    Bound,
+    by_margin,
+    condition,
+    config_of,
+    engines_running,
+    fixed_speed,
+    flight_thrust,
+    lapse,
+    lift_limit,
+    master_equation,
+    propeller_efficiency,
+    speed_key,
+    speed_limit,
+    thrust_available,
+    to_sea_level,
+)
+from .registry import (
+    DEFAULT_MIN_SPEED_FACTOR,
+    KINDS,
+    Kind,
+    evaluate,
+    free_speed_range,
+    max_free_speed,
+    min_free_speed,
+    required_curve,
+    speed_floors,
+)
+from .speeds import approach_speed, buffet_limit, cruise, max_mach, stall_speed
 from .turns import excess_power, instantaneous_turn, sustained_turn
 
-__all__ = ["FT_PER_MIN", "SERVICE_CEILING_CLIMB_RATE", "Bound", "KINDS", "Kind", "ceiling", "climb",
-           "climb_gradient", "condition", "config_of", "cruise", "engine_out_climb_thrust", "evaluate",
-           "excess_power", "fixed_speed", "flight_thrust", "free_speed_range", "instantaneous_turn",
-           "landing", "landing_wing_loading", "lapse", "lift_limit", "master_equation", "max_free_speed",
-           "max_mach", "required_curve", "stall_speed", "sustained_turn", "takeoff",
-           "takeoff_ground_roll_thrust", "to_sea_level"]
+__all__ = ["CLIMB_SEGMENTS", "DEFAULT_MIN_SPEED_FACTOR", "FT_PER_MIN", "SEGMENT_KEYS", "SERVICE_CEILING_CLIMB_RATE",
+           "SPEED_KEYS", "Bound", "KINDS", "Kind", "approach_speed", "average_takeoff_thrust",
+           "balanced_field_length", "balanced_field_of", "buffet_limit", "by_margin", "ceiling", "climb",
+           "climb_gradient", "condition", "config_of", "cruise", "engine_out_climb_thrust", "engines_running",
+           "evaluate", "excess_power", "fixed_speed", "flight_thrust", "free_speed_range", "ground_roll_distance",
+           "instantaneous_turn", "landing", "landing_air_distance", "landing_distance_of", "landing_distance_wing_loading",
+           "landing_wing_loading", "lapse", "lift_limit", "master_equation", "max_free_speed", "max_mach",
+           "min_free_speed", "propeller_efficiency", "required_curve", "segment_defaults", "speed_floors",
+           "speed_key", "speed_limit", "stall_speed", "sustained_turn", "takeoff", "takeoff_distance_of",
+           "takeoff_ground_roll_thrust", "thrust_available", "to_sea_level", "transition_climb_distance"]

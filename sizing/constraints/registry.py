@@ -14,10 +14,11 @@ from types import SimpleNamespace
 import numpy as np
 
 from ..physics import shim as m
+from ..physics.aero import coefficient
 from .climb import ceiling, climb, climb_gradient
 from .field import landing, takeoff
-from .flight import Bound, condition, config_of
-from .speeds import cruise, max_mach, stall_speed
+from .flight import Bound, condition, config_of, speed_limit
+from .speeds import approach_speed, cruise, max_mach, stall_speed
 from .turns import excess_power, instantaneous_turn, sustained_turn
 
 
@@ -30,12 +31,13 @@ class Kind:
     value_field: str       # the field whose sensitivity is reported
     load_factor_field: str = ""   # field holding n for the free-speed stall bound
     reference: str = ""
+    buffet: bool = False          # a free speed also stays above buffet onset (cl_buffet x margin)
 
     def has_free_speed(self, req) -> bool:
         if self.free_speed == "always":
             return True
         if self.free_speed == "if-no-speed":
-            return getattr(req, "speed", None) is None and getattr(req, "mach", None) is None
+            return all(getattr(req, k, None) is None for k in ("speed", "mach", "cas", "eas"))
         return False
 
 
@@ -43,14 +45,19 @@ KINDS = {
     "stall-speed": Kind(stall_speed, "never", "speed", reference="lift equation; Raymer §5.3"),
     "sustained-turn": Kind(sustained_turn, "never", "load_factor", reference="Mattingly Eq. 2.11"),
     "max-mach": Kind(max_mach, "never", "mach", reference="Mattingly Eq. 2.11"),
-    "ceiling": Kind(ceiling, "always", "altitude", reference="Mattingly Eq. 2.11; Gudmundsson Eq. 3-6"),
+    "ceiling": Kind(ceiling, "always", "altitude", reference="Mattingly Eq. 2.11; Gudmundsson Eq. 3-6",
+                    buffet=True),
     "climb": Kind(climb, "if-no-speed", "climb_rate", reference="Gudmundsson Eq. 3-3"),
     "excess-power": Kind(excess_power, "never", "excess_power", reference="Mattingly Eq. 2.11"),
     "cruise": Kind(cruise, "never", "speed", reference="Mattingly Eq. 2.11; Gudmundsson Eq. 3-5"),
     "instantaneous-turn": Kind(instantaneous_turn, "never", "load_factor", reference="lift equation"),
-    "takeoff": Kind(takeoff, "never", "ground_roll", reference="Gudmundsson Eq. 3-4"),
-    "landing": Kind(landing, "never", "ground_roll", reference="Mattingly §2.2.9; Raymer Ch. 17"),
-    "climb-gradient": Kind(climb_gradient, "never", "gradient", reference="Raymer Ch. 5; 14 CFR 25.121"),
+    "takeoff": Kind(takeoff, "never", "ground_roll",
+                    reference="Gudmundsson Eq. 3-4; Raymer §17.8 (distance, balanced field, Torenbeek)"),
+    "landing": Kind(landing, "never", "ground_roll",
+                    reference="Mattingly §2.2.9; Raymer §17.9; 14 CFR 121.195(b)"),
+    "climb-gradient": Kind(climb_gradient, "never", "gradient",
+                           reference="Raymer Ch. 5; 14 CFR 25.111, 25.119, 25.121"),
+    "approach-speed": Kind(approach_speed, "never", "speed", reference="lift equation; Raymer §17.9"),
 }
 
 
@@ -60,23 +67,66 @@ def evaluate(req, ac, W_S, V=None) -> Bound:
 
 
 def free_speed_range(req, ac, W_S):
-    """Lowest and highest free speed [m/s] at W_S: stall (CLmax of the
-    requirement's configuration) and the speed limit / polar Mach table."""
+    """Lowest and highest free speed [m/s] at W_S (numbers): :func:`min_free_speed` and
+    :func:`max_free_speed`."""
     air = condition(req)
-    n = 1.0
-    V_lo = m.sqrt(2.0 * n * req.beta * W_S / (air.density * ac.polar.CLmax(config_of(req))))
-    V_hi = max_free_speed(ac, air)
-    return V_lo, V_hi
+    return min_free_speed(req, ac, W_S), max_free_speed(ac, air)
+
+
+DEFAULT_MIN_SPEED_FACTOR = 1.2
+
+
+def speed_floors(req, ac, W_S, V):
+    """The lower bounds of a free speed V as (name, have, need) pairs, met when have >= need:
+
+    * ``stall``: q CLmax(config) >= k^2 n beta W/S, i.e. V >= k V_stall with k the requirement's
+      ``min_speed_factor`` (default 1.2);
+    * ``buffet`` (ceiling, when ``cl_buffet`` is given): q CL_buffet(M) >= n_b beta W/S, i.e.
+      CL x buffet margin <= CL_buffet.
+
+    On numbers and symbols alike: the optimizer's rows are have - need, the margins have/need - 1.
+    """
+    air = condition(req)
+    q = 0.5 * air.density * V ** 2
+    k = getattr(req, "min_speed_factor", None)
+    k = DEFAULT_MIN_SPEED_FACTOR if k is None else k
+    out = [("stall", q * ac.polar.CLmax(config_of(req)), k ** 2 * req.beta * W_S)]
+    if KINDS[req.kind].buffet and getattr(ac, "cl_buffet", None) is not None:
+        out.append(("buffet", q * coefficient(ac.cl_buffet, V / air.speed_of_sound),
+                    ac.buffet_margin * req.beta * W_S))
+    return out
+
+
+def min_free_speed(req, ac, W_S, iterations=50):
+    """Lowest free speed [m/s] at W_S (numbers): every floor of :func:`speed_floors` met
+    (bisection where CL_buffet is a Mach table)."""
+    air = condition(req)
+    W_S = np.asarray(W_S, dtype=float)
+    k = getattr(req, "min_speed_factor", None)
+    k = DEFAULT_MIN_SPEED_FACTOR if k is None else k
+    rho = np.asarray(air.density, dtype=float)
+    V = k * np.sqrt(2.0 * req.beta * W_S / (rho * ac.polar.CLmax(config_of(req))))
+    if KINDS[req.kind].buffet and getattr(ac, "cl_buffet", None) is not None:
+        a = np.asarray(air.speed_of_sound, dtype=float)
+        need = ac.buffet_margin * req.beta * W_S
+        lo, hi = np.zeros_like(V + 0.0 * need), np.broadcast_to(5.0 * a, np.shape(V + 0.0 * need)).copy()
+        for _ in range(iterations):
+            mid = 0.5 * (lo + hi)
+            ok = 0.5 * rho * mid ** 2 * np.asarray(coefficient(ac.cl_buffet, mid / a)) >= need
+            lo, hi = np.where(ok, lo, mid), np.where(ok, mid, hi)
+        V = np.maximum(V, hi)
+    return V
 
 
 def max_free_speed(ac, air):
-    """Upper bound on a free speed at a condition [m/s]."""
+    """Upper bound on a free speed at a condition [m/s]: the speed limit (the lowest of VMO,
+    MMO and a true-airspeed limit, :func:`~sizing.constraints.flight.speed_limit`) and the
+    polar's Mach table; M 0.95 when neither is given."""
     a = air.speed_of_sound
     tops = []
-    if ac.speed_limit_mach is not None:
-        tops.append(ac.speed_limit_mach * a)
-    if ac.speed_limit_speed is not None:
-        tops.append(ac.speed_limit_speed + 0.0 * a)
+    lim = speed_limit(ac, air)
+    if lim is not None:
+        tops.append(lim)
     if np.isfinite(ac.polar.mach_max):
         tops.append(ac.polar.mach_max * a)
     if not tops:

@@ -19,6 +19,7 @@ from .fields import (
     Count,
     EngineMass,
     Fraction,
+    Length,
     LiftCoefficient,
     LoadFactor,
     MachNumber,
@@ -76,6 +77,15 @@ class K1Table(_Table):
         return self
 
 
+class CLBuffetTable(_Table):
+    cl_buffet: list[Number] = Field(description="buffet-onset lift coefficient at each Mach number")
+
+    @model_validator(mode="after")
+    def _len(self):
+        self._check(self.cl_buffet, "cl_buffet", 3.0)
+        return self
+
+
 class CLMax(Strict):
     clean: LiftCoefficient = Field(description="clean-wing maximum lift coefficient")
     takeoff: Optional[LiftCoefficient] = Field(None, description="takeoff flaps (default: clean)")
@@ -129,6 +139,15 @@ class Aerodynamics(Strict):
             raise ValueError(f"lift_curve_slope {v:g} per radian is outside 1 to 7 (2 pi = 6.28 is the "
                              f"thin-airfoil value; a value per degree such as 0.08 is 4.58 per radian)")
         return v
+    gear_drag_increment: Number = Field(0.0, description="zero-lift drag of the extended landing gear, added "
+                                                         "where the gear is down (takeoff, first-segment and "
+                                                         "landing climbs)")
+    engine_out_drag_increment: Number = Field(0.0, description="zero-lift drag of each inoperative engine "
+                                                               "(windmilling or feathered propeller, trim)")
+    cl_buffet: Optional[Union[Number, CLBuffetTable]] = Field(None, description="buffet-onset lift "
+                                                              "coefficient, or a Mach table")
+    buffet_margin: Optional[Number] = Field(None, description="load factor to buffet onset [g]; default "
+                                                              "1.3 where cl_buffet is given")
 
     @field_validator("cd0")
     @classmethod
@@ -150,10 +169,22 @@ class Aerodynamics(Strict):
     def _k2(cls, v):
         return _within("k2", v, -0.5, 0.5)
 
-    @field_validator("takeoff_drag_increment", "landing_drag_increment")
+    @field_validator("takeoff_drag_increment", "landing_drag_increment", "gear_drag_increment",
+                     "engine_out_drag_increment")
     @classmethod
     def _inc(cls, v):
         return _within("drag increment", v, 0.0, 0.3)
+
+    @model_validator(mode="after")
+    def _buffet(self):
+        if isinstance(self.cl_buffet, float):
+            _within("cl_buffet", self.cl_buffet, 0.1, 3.0)
+        if self.buffet_margin is not None:
+            if self.cl_buffet is None:
+                raise FieldError("buffet_margin", "buffet_margin needs cl_buffet (the buffet-onset lift "
+                                                  "coefficient it is measured against)")
+            _within("buffet_margin", self.buffet_margin, 1.0, 2.5, "1.0 to 2.5 g")
+        return self
 
     @model_validator(mode="after")
     def _k1_source(self):
@@ -165,7 +196,7 @@ class Aerodynamics(Strict):
 
     @property
     def mach_max(self) -> float:
-        tops = [t.mach[-1] for t in (self.cd0, self.k1) if isinstance(t, _Table)]
+        tops = [t.mach[-1] for t in (self.cd0, self.k1) if isinstance(t, _Table)]  # drag tables only
         return min(tops) if tops else float("inf")
 
 
@@ -175,6 +206,25 @@ class Propulsion(Strict):
     throttle_ratio: Number = 1.0
     afterburner: bool = False
     propeller_efficiency: Number = 0.8
+    takeoff_propeller_efficiency: Optional[Number] = Field(None, description="propeller efficiency in the "
+                                                           "field kinds; default the cruise value")
+    propeller_diameter: Optional[Length] = Field(None, description="diameter of each propeller: caps takeoff "
+                                                 "thrust by ideal momentum theory")
+    bypass_ratio: Optional[Number] = Field(None, description="jets: bypass ratio for the balanced field "
+                                           "length's average thrust; default 0 / 1 / 5 by type")
+
+    @model_validator(mode="after")
+    def _kind(self):
+        prop = self.type in ("turboprop", "piston")
+        for key in ("takeoff_propeller_efficiency", "propeller_diameter"):
+            if getattr(self, key) is not None and not prop:
+                raise FieldError(key, f"{key} applies to propeller aircraft (turboprop, piston), not a {self.type}")
+        if self.bypass_ratio is not None and prop:
+            raise FieldError("bypass_ratio", f"bypass_ratio applies to jets, not a {self.type}")
+        _within("takeoff_propeller_efficiency", self.takeoff_propeller_efficiency, 0.2, 0.95)
+        _within("propeller_diameter", self.propeller_diameter, 0.3, 8.0, "0.3 to 8 m")
+        _within("bypass_ratio", self.bypass_ratio, 0.0, 20.0)
+        return self
 
     @field_validator("throttle_ratio")
     @classmethod
@@ -188,15 +238,18 @@ class Propulsion(Strict):
 
 
 class SpeedLimit(Strict):
-    mach: Optional[MachNumber] = None
-    speed: Optional[Speed] = None
+    mach: Optional[MachNumber] = Field(None, description="MMO")
+    cas: Optional[Speed] = Field(None, description="VMO, a calibrated airspeed")
+    speed: Optional[Speed] = Field(None, description="a true airspeed limit")
 
     @model_validator(mode="after")
     def _one(self):
-        if self.mach is None and self.speed is None:
-            raise ValueError("give mach or speed")
+        if self.mach is None and self.speed is None and self.cas is None:
+            raise ValueError("give mach (MMO), cas (VMO) or speed (a true airspeed); mach and cas together "
+                             "limit to whichever is lower at each altitude")
         _positive("mach", self.mach, 5.0)
         _positive("speed", self.speed, 1700.0)
+        _positive("cas", self.cas, 340.0)
         return self
 
 
@@ -304,9 +357,15 @@ class Weights(Strict):
     fuel: Fuel = Field(default_factory=Fuel)
     max_fuel: Optional[Mass] = Field(None, description="usable fuel capacity (payload-range); default the design fuel")
     max_payload: Optional[Mass] = Field(None, description="maximum payload (payload-range); default the design payload")
+    max_landing_fraction: Optional[Fraction] = Field(None, description="maximum landing weight over takeoff "
+                                                     "weight: default weight fraction of landing and "
+                                                     "approach requirements")
 
     @model_validator(mode="after")
     def _fixed(self):
+        if self.max_landing_fraction is not None and not (0.3 <= self.max_landing_fraction <= 1.0):
+            raise FieldError("max_landing_fraction", f"max_landing_fraction {self.max_landing_fraction:g} "
+                                                     f"must lie in [0.3, 1]: it is W_landing/W_TO")
         for name in ("crew", "payload"):
             if not getattr(self, name).si >= 0:
                 raise FieldError(name, f"{name} cannot be negative, got {getattr(self, name).text}")

@@ -41,6 +41,7 @@ WingLoading = _q("wing_loading")
 ArealMass = _q("areal_mass")
 PowerToWeight = _q("power_to_weight")
 Tsfc = _q("tsfc")
+Angle = _q("angle")
 
 
 def _mass_per_engine(v):

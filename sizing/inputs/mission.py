@@ -24,6 +24,8 @@ from .fields import (
 from .fields import positive as _positive
 from .fields import within as _within
 
+SPEED_KEYS = ("mach", "speed", "cas", "eas")     # the ways a flight speed may be given
+
 
 def flight_condition(obj, need_speed: bool):
     """Shared checks of a flight condition: altitude, offset, Mach or speed, load factor."""
@@ -31,14 +33,25 @@ def flight_condition(obj, need_speed: bool):
             f"the standard atmosphere model ({H_MIN:g} m to {H_MAX:g} m)")
     _within("temperature_offset", obj.temperature_offset, -80.0, 60.0, "-80 K to +60 K")
     mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
-    if mach is not None and speed is not None:
-        raise FieldError("speed", "give mach or speed, not both")
-    if need_speed and mach is None and speed is None:
-        raise FieldError("mach", "needs mach or speed (true airspeed)")
+    given = [k for k in SPEED_KEYS if getattr(obj, k, None) is not None]
+    if len(given) > 1:
+        raise FieldError(given[1], f"give one of mach, speed (true airspeed), cas (calibrated) or eas "
+                                   f"(equivalent), not {' and '.join(given)}")
+    if need_speed and not given:
+        raise FieldError("mach", "needs mach, speed (true airspeed), cas (calibrated airspeed) or eas "
+                                 "(equivalent airspeed)")
     if mach is not None and not (0.0 < mach <= 5.0):
         raise FieldError("mach", f"mach {mach:g} must lie in (0, 5]")
-    if speed is not None:
-        _positive("speed", speed, 1700.0)
+    for key in ("speed", "cas", "eas"):
+        _positive(key, getattr(obj, key, None), 1700.0)
+    cas = getattr(obj, "cas", None)
+    if cas is not None and H_MIN <= obj.altitude.si <= H_MAX and -80.0 <= obj.temperature_offset.si <= 60.0:
+        from ..physics.airspeed import cas_to_mach
+        from ..physics.atmosphere import isa
+        try:
+            cas_to_mach(cas.si, isa(obj.altitude.si, obj.temperature_offset.si))
+        except ValueError as e:
+            raise FieldError("cas", f"cas {cas.text} at {obj.altitude.text}: {e}") from None
     n = getattr(obj, "load_factor", None)
     if n is not None and not (0.0 < n <= 15.0):
         raise FieldError("load_factor", f"load_factor {n:g} must lie in (0, 15]")
@@ -80,7 +93,9 @@ class FixedSegment(_Segment):
 
 class _Flown(_Segment):
     mach: Optional[MachNumber] = None
-    speed: Optional[Speed] = None
+    speed: Optional[Speed] = Field(None, description="true airspeed")
+    cas: Optional[Speed] = Field(None, description="calibrated airspeed")
+    eas: Optional[Speed] = Field(None, description="equivalent airspeed")
     altitude: Length = Field(default_factory=lambda: units.parse("0 ft", "length"))
     temperature_offset: TempDelta = Field(default_factory=lambda: units.parse("0 K", "temperature_difference"))
     tsfc: Optional[FuelConsumption] = None

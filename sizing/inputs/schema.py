@@ -18,7 +18,7 @@ from ..physics.propulsion import PROPELLER_TYPES
 from . import units
 from .aircraft import Aircraft, EmptyComponents
 from .fields import Name, Number, PowerToWeight, Strict, WingLoading
-from .kinds import After, ClimbGradient, Requirement
+from .kinds import After, ClimbGradient, Requirement, Takeoff
 from .mission import Mission
 
 
@@ -90,10 +90,8 @@ class RequirementFile(Strict):
                 raise FieldError(("requirements", i, "weight_fraction", "after"),
                                  f"{r.weight_fraction.after!r} names no mission segment{hint}; segments: "
                                  f"{', '.join(names) or 'none (there is no mission with named segments)'}")
-            if isinstance(r, ClimbGradient) and r.engines_out >= engines:
-                raise FieldError(("requirements", i, "engines_out"),
-                                 f"engines_out {r.engines_out} leaves no engine running (the aircraft "
-                                 f"has {engines})")
+            _engines_and_forms(r, ("requirements", i), self.aircraft, prop)
+            _within_speed_limit(r, ("requirements", i), self.aircraft.speed_limit)
             if r.kind not in ("stall-speed", "instantaneous-turn"):     # these use CLmax only
                 _within_table(self.aircraft.aerodynamics.mach_max, r, ("requirements", i))
         if self.mission is not None:
@@ -118,19 +116,87 @@ class RequirementFile(Strict):
         return self
 
 
+def _engines_and_forms(r, where, aircraft, prop):
+    """Engine counts that a requirement's form needs: engines out, climb segments, balanced field."""
+    from ..constraints.climb import CLIMB_SEGMENTS, segment_defaults
+
+    engines = aircraft.propulsion.engines
+    out = getattr(r, "engines_out", None)
+    if out is not None and out >= engines:
+        raise FieldError(where + ("engines_out",), f"engines_out {out} leaves no engine running (the aircraft "
+                                                   f"has {engines})")
+    if isinstance(r, ClimbGradient) and r.segment is not None:
+        try:
+            segment_defaults(r.segment, engines)
+        except ValueError as e:
+            raise FieldError(where + ("segment",), f"{e}; this aircraft has {engines}: give gradient, "
+                                                   f"engines_out and speed_ratio instead") from None
+        if out is None and CLIMB_SEGMENTS[r.segment]["engines_out"] >= engines:
+            raise FieldError(where + ("segment",), f"the {r.segment} segment has one engine out, which leaves "
+                                                   f"no engine running (the aircraft has {engines})")
+    if isinstance(r, ClimbGradient) and r.segment is None and out is None and engines < 2:
+        raise FieldError(where + ("engines_out",), "a climb gradient has one engine out by default, which "
+                                                   "leaves no engine running on this single-engine aircraft: "
+                                                   "write engines_out: 0")
+    if isinstance(r, Takeoff) and r.balanced_field is not None:
+        if engines < 2:
+            raise FieldError(where + ("balanced_field",), "a balanced field length balances an engine failure "
+                                                          "against the rejected takeoff: it applies to multi-engine "
+                                                          f"aircraft (this one has {engines} engine); give distance "
+                                                          "or ground_roll")
+        if prop and aircraft.propulsion.propeller_diameter is None:
+            raise FieldError(where + ("balanced_field",), "the balanced field length of a propeller aircraft "
+                                                          "needs aircraft.propulsion.propeller_diameter (its "
+                                                          "average takeoff thrust comes from the disk area)")
+
+
+_FLOWN_AT_SPEED = ("sustained-turn", "max-mach", "climb", "excess-power", "cruise", "instantaneous-turn")
+
+
+def _within_speed_limit(r, where, limit):
+    """A requirement flown at a given speed must not ask for more than the speed limit there."""
+    if limit is None or r.kind not in _FLOWN_AT_SPEED:
+        return
+    from types import SimpleNamespace
+
+    from ..constraints.flight import fixed_speed, speed_key, speed_limit
+    from ..physics.atmosphere import isa
+
+    key = speed_key(r)
+    if key is None:
+        return
+    air = isa(r.altitude.si, r.temperature_offset.si)
+    raw = {k: (None if getattr(r, k, None) is None else float(getattr(r, k))) for k in ("mach", "speed",
+                                                                                        "cas", "eas")}
+    V = float(fixed_speed(SimpleNamespace(**raw), air))
+    ac = SimpleNamespace(speed_limit_mach=limit.mach, speed_limit_cas=None if limit.cas is None else limit.cas.si,
+                         speed_limit_speed=None if limit.speed is None else limit.speed.si)
+    top = float(speed_limit(ac, air))
+    if V > top * (1.0 + 1e-9):
+        a = float(air.speed_of_sound)
+        raise FieldError(where + (key,), f"{key} {getattr(getattr(r, key), 'text', getattr(r, key))} is "
+                                         f"M {V / a:.3f} at {r.altitude.text}, above the speed limit there "
+                                         f"(M {top / a:.3f}); lower it, or raise aircraft.speed_limit")
+
+
 def _within_table(mach_max, obj, where):
     """A flight condition's Mach number must lie inside the drag polar's Mach table."""
     if not math.isfinite(mach_max):
         return
-    mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
+    mach = getattr(obj, "mach", None)
     if mach is not None and mach > mach_max:
         raise FieldError(where + ("mach",), f"mach {mach:g} lies above the drag polar's Mach table (up to "
                                             f"{mach_max:g}); extend the table or lower the Mach")
-    if speed is not None:
+    for key in ("speed", "cas", "eas"):
+        q = getattr(obj, key, None)
+        if q is None:
+            continue
+        from ..physics.airspeed import true_airspeed
         from ..physics.atmosphere import isa
 
-        M = speed.si / float(isa(obj.altitude.si, obj.temperature_offset.si).speed_of_sound)
+        air = isa(obj.altitude.si, obj.temperature_offset.si)
+        M = float(true_airspeed(key, q.si, air, strict=False)) / float(air.speed_of_sound)
         if M > mach_max:
-            raise FieldError(where + ("speed",), f"speed {speed.text} is Mach {M:.3f} here, above the drag "
-                                                 f"polar's Mach table (up to {mach_max:g}); extend the "
-                                                 f"table or lower the speed")
+            raise FieldError(where + (key,), f"{key} {q.text} is Mach {M:.3f} here, above the drag "
+                                             f"polar's Mach table (up to {mach_max:g}); extend the "
+                                             f"table or lower the speed")

@@ -69,7 +69,10 @@ DIMENSIONS = {
     # power-specific fuel consumption, weight-based [N/J = 1/m]; mass-based times g0
     "psfc": Dimension("power-specific fuel consumption", "1/m", "'0.45 lb/(hp*h)', '80 ug/J'",
                       (("1 / [length]", 1.0), ("[time] ** 2 / [length] ** 2", G0))),
+    # angles are dimensionless to pint: only the angle units themselves are accepted
+    "angle": Dimension("angle", "rad", "'3 deg', '0.05 rad'", ()),
 }
+ANGLE_UNITS = ("degree", "radian", "arcminute", "arcsecond", "milliradian")
 
 
 class UnitError(ValueError):
@@ -174,6 +177,11 @@ def _parse(value, dimension: str) -> Quantity:
     except Exception as e:  # noqa: BLE001 - offset units in products and the like
         raise UnitError(f"cannot use the unit {unit_text!r} of {value!r} here ({e}); write it like "
                         f"{dim.examples}") from None
+    if dimension == "angle":
+        if str(u) not in ANGLE_UNITS:
+            raise UnitError(f"{value!r} is not an angle; write it like {dim.examples}")
+        return Quantity(float(q.to("radian").magnitude), text, unit_text,
+                        float(ureg.Quantity(1.0, u).to("radian").magnitude))
     if base.dimensionless:
         raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
     for dims, factor in dim.accepts:

@@ -191,3 +191,88 @@ def thrust_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
 def is_propeller(engine_type) -> bool:
     """True for engine families sized by power (turboprop, piston)."""
     return engine_type in PROPELLER_TYPES
+
+
+# --------------------------------------------------------------------------
+# Propellers: ideal momentum theory (actuator disk)
+# --------------------------------------------------------------------------
+
+def propeller_static_thrust(power, density, disk_area):
+    """Ideal static thrust of an actuator disk, T = (2 rho A P^2)^(1/3) [N].
+
+    Parameters
+    ----------
+    power : shaft power absorbed by the disk [W]
+    density : air density [kg/m^3]
+    disk_area : disk area [m^2] (pi D^2 / 4 per propeller, summed)
+
+    Notes
+    -----
+    Rankine-Froude momentum theory: no profile, swirl or tip losses, so a
+    real propeller gives less (its static figure of merit, typically 0.7 to
+    0.85). It is the ceiling no propeller of that diameter can exceed.
+
+    Examples
+    --------
+    Source: REFERENCES.md §6 (momentum theory, computed there): P = 150 kW,
+    D = 1.9 m, sea level -> 5 386.6 N.
+
+    >>> import math
+    >>> round(float(propeller_static_thrust(150e3, 1.225, math.pi * 1.9 ** 2 / 4)), 1)
+    5386.6
+
+    References
+    ----------
+    McCormick, B. W., *Aerodynamics, Aeronautics and Flight Mechanics*, 2nd ed.,
+    Wiley, 1995, Ch. 6 (momentum theory of propellers; from memory for the
+    section number).
+    """
+    return m.power(2.0 * density * disk_area * power ** 2, 1.0 / 3.0)
+
+
+def actuator_disk_power(thrust, speed, density, disk_area):
+    """Ideal power for a thrust at a flight speed, P = (T/2) (V + sqrt(V^2 + 2 T/(rho A))) [W].
+
+    From T = 2 rho A v (V + v) (induced velocity v at the disk) and P = T (V + v).
+    At V = 0 it is the inverse of :func:`propeller_static_thrust`.
+
+    Examples
+    --------
+    Hand calculation: the static case above, T = 5 386.6 N -> P = 150 kW.
+
+    >>> import math
+    >>> round(float(actuator_disk_power(5386.6, 0.0, 1.225, math.pi * 1.9 ** 2 / 4)) / 1e3, 2)
+    150.0
+    """
+    return 0.5 * thrust * (speed + m.sqrt(speed ** 2 + 2.0 * thrust / (density * disk_area)))
+
+
+def actuator_disk_thrust(power, speed, density, disk_area, iterations=60):
+    """Ideal thrust of an actuator disk absorbing a power at a flight speed [N] (numpy).
+
+    The root T of :func:`actuator_disk_power` (T, V) = P, found by bisection
+    between 0 and min(static thrust, P/V) (the ideal efficiency T V/P cannot
+    exceed 1).
+
+    Examples
+    --------
+    Hand calculation: round trip at 40 m/s.
+
+    >>> import math
+    >>> A = math.pi * 1.9 ** 2 / 4
+    >>> T = actuator_disk_thrust(150e3, 40.0, 1.225, A)
+    >>> round(float(actuator_disk_power(T, 40.0, 1.225, A)) / 1e3, 6)
+    150.0
+    """
+    import numpy as np
+
+    P, V = np.asarray(power, dtype=float), np.asarray(speed, dtype=float)
+    hi = np.asarray(propeller_static_thrust(P, density, disk_area), dtype=float)
+    with np.errstate(divide="ignore"):
+        hi = np.minimum(hi, np.where(V > 0, P / np.where(V > 0, V, 1.0), np.inf))
+    lo = np.zeros_like(hi)
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        low = actuator_disk_power(mid, V, density, disk_area) < P
+        lo, hi = np.where(low, mid, lo), np.where(low, hi, mid)
+    return 0.5 * (lo + hi)

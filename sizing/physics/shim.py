@@ -50,6 +50,26 @@ def log(x):
     return _pick(x).log(x)
 
 
+def sin(x):
+    """Sine [rad]."""
+    return _pick(x).sin(x)
+
+
+def cos(x):
+    """Cosine [rad]."""
+    return _pick(x).cos(x)
+
+
+def tan(x):
+    """Tangent [rad]."""
+    return _pick(x).tan(x)
+
+
+def asin(x):
+    """Arc sine [rad]."""
+    return ca.asin(x) if is_symbolic(x) else np.arcsin(x)
+
+
 def power(x, y):
     """x ** y (with symbolic exponents allowed)."""
     if is_symbolic(x, y):

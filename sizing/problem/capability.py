@@ -12,16 +12,16 @@ import math
 import numpy as np
 
 from .. import constraints as C
+from ..physics.airspeed import KINDS as AIRSPEED
 from . import tree as M
 
 # which way makes a requirement harder: +1 larger value is harder, -1 smaller
+_SPEED_HARDER = {"stall-speed": -1, "approach-speed": -1, "cruise": +1, "max-mach": +1, "sustained-turn": +1,
+                 "instantaneous-turn": -1, "excess-power": +1, "climb": +1}
 HARDER = {
-    "speed": {"stall-speed": -1, "cruise": +1, "max-mach": +1, "sustained-turn": +1,
-              "instantaneous-turn": -1, "excess-power": +1, "climb": +1},
-    "mach": {"stall-speed": -1, "cruise": +1, "max-mach": +1, "sustained-turn": +1,
-             "instantaneous-turn": -1, "excess-power": +1, "climb": +1},
+    "speed": _SPEED_HARDER, "cas": _SPEED_HARDER, "eas": _SPEED_HARDER, "mach": _SPEED_HARDER,
     "load_factor": +1, "altitude": +1, "climb_rate": +1, "excess_power": +1,
-    "ground_roll": -1, "gradient": +1,
+    "ground_roll": -1, "distance": -1, "balanced_field": -1, "field_length": -1, "gradient": +1,
 }
 _WORDS = {
     "stall-speed": ("stall", "limit"), "sustained-turn": ("sustainable", "required"),
@@ -29,8 +29,15 @@ _WORDS = {
     "climb": ("climb", "required"), "excess-power": ("Ps available", "required"),
     "cruise": ("reachable", "required"), "instantaneous-turn": ("available", "required"),
     "takeoff": ("ground roll", "allowed"), "landing": ("ground roll", "allowed"),
-    "climb-gradient": ("gradient", "required"),
+    "climb-gradient": ("gradient", "required"), "approach-speed": ("approach", "limit"),
 }
+_FORM_WORDS = {("takeoff", "distance"): "takeoff distance", ("takeoff", "balanced_field"): "balanced field",
+               ("landing", "distance"): "landing distance", ("landing", "field_length"): "field length"}
+
+
+def airspeed_label(field) -> str:
+    """' TAS', ' CAS' or ' EAS' after a speed of a requirement field (``speed``, ``cas``, ``eas``)."""
+    return f" {AIRSPEED[field]}" if field in AIRSPEED else ""
 
 
 def user_unit(spec, rid, field):
@@ -46,20 +53,23 @@ def user_unit(spec, rid, field):
     raw = next((r for r in spec.data.get("requirements", []) if isinstance(r, dict) and r.get("id") == rid), {})
     if isinstance(raw.get(field), str) and raw[field].strip().endswith("%"):
         return "%", 0.01
+    if field == "gradient" and field not in raw:       # filled from a climb segment
+        return "%", 0.01
     if field == "climb_rate":        # ceiling default
         return "ft/min", 0.3048 / 60.0
     return "unit", 1.0
 
 
 def sensitivity_unit(spec, rid, field):
-    """('kg per <user unit>', SI per user unit) for a requirement's sensitivity."""
+    """('kg per <user unit>', SI per user unit) for a requirement's sensitivity (airspeeds labelled
+    TAS, CAS or EAS)."""
     unit, scale = user_unit(spec, rid, field)
-    return f"kg per {unit}", scale
+    return f"kg per {unit}{airspeed_label(field)}", scale
 
 
-def margin_at(r: dict, tree: dict, W_S, Y, beta) -> float:
+def margin_at(r: dict, tree: dict, W_S, Y, beta, takeoff_mass=None) -> float:
     """Smallest fractional margin of a requirement at (W_S, Y), best free speed."""
-    ac = M.aircraft(tree)
+    ac = M.aircraft(tree, takeoff_mass)
     req = M.requirement(r, ac, beta)
     with np.errstate(all="ignore"):
         thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=24)
@@ -72,12 +82,13 @@ def margin_at(r: dict, tree: dict, W_S, Y, beta) -> float:
     return min(margins) if margins else math.inf
 
 
-def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
+def capability(r: dict, tree: dict, W_S, Y, beta, field=None, takeoff_mass=None):
     """Value of the headline field at which the design just meets the requirement.
 
-    Bisection on the field's value (SI) using the constraint function itself.
-    Returns None when no bracket is found (for example the design meets the
-    requirement for any value in the plausible range).
+    Field lengths are computed directly (the distance the design needs); the other fields by
+    bisection on the field's value (SI) using the constraint function itself. Returns None when
+    no bracket is found (for example the design meets the requirement for any value in the
+    plausible range).
     """
     field = field or M.value_field(r)
     harder = HARDER.get(field, +1)
@@ -85,7 +96,10 @@ def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
         harder = harder.get(r["kind"], +1)
     v0 = float(r[field])
 
-    ac = M.aircraft(tree)
+    ac = M.aircraft(tree, takeoff_mass)
+    direct = field_length(r, ac, W_S, Y, beta)
+    if direct is not None:
+        return direct
 
     def beyond_limit(rr):
         """A speed above the speed limit or the polar's Mach table is not flown."""
@@ -101,7 +115,7 @@ def capability(r: dict, tree: dict, W_S, Y, beta, field=None):
         try:
             if beyond_limit(rr):
                 return -1.0
-            return margin_at(rr, tree, W_S, Y, beta)
+            return margin_at(rr, tree, W_S, Y, beta, takeoff_mass)
         except ValueError:
             return -1.0
 
@@ -151,20 +165,68 @@ def fmt(value_si, unit, scale):
     return f"{v:,.{digits}f} {unit}"
 
 
-def describe_margin(r: dict, tree: dict, spec, W_S, Y, beta) -> str:
-    """The margin of a requirement in its own terms."""
+def field_length(r: dict, ac, W_S, Y, beta):
+    """The distance a design needs for a takeoff over an obstacle, a balanced field, a landing from
+    the obstacle or a landing field length [m]; None for other requirements (and ground rolls)."""
+    form = M.form_of(r)
+    if form in (None, "ground_roll"):
+        return None
+    req = M.requirement(r, ac, beta)
+    with np.errstate(all="ignore"):
+        if r["kind"] == "takeoff":
+            f = C.takeoff_distance_of if form == "distance" else C.balanced_field_of
+            return float(np.asarray(f(float(W_S), float(Y), req, ac)))
+        S = float(np.asarray(C.landing_distance_of(float(W_S), req, ac)))
+    return S if form == "distance" else S / float(req.factor)
+
+
+def describe_margin(r: dict, tree: dict, spec, W_S, Y, beta, takeoff_mass=None) -> str:
+    """The margin of a requirement in its own terms ("takeoff distance 1,234 m over 50 ft vs
+    1,500 m allowed", "approach 121 kn CAS vs 125 kn CAS limit"), airspeeds labelled TAS, CAS
+    or EAS, and what the requirement assumed where a reviewer would ask (the climb segment's
+    paragraph, the propeller efficiency of a field kind)."""
     field = M.value_field(r)
     unit, scale = user_unit(spec, r["id"], field)
+    unit_shown = unit + airspeed_label(field)
     have, need = _WORDS.get(r["kind"], ("design", "required"))
-    cap = capability(r, tree, float(W_S), float(Y), float(np.asarray(beta)), field)
-    req_text = fmt(float(r[field]), unit, scale)
+    have = _FORM_WORDS.get((r["kind"], M.form_of(r)), have)
+    cap = capability(r, tree, float(W_S), float(Y), float(np.asarray(beta)), field, takeoff_mass)
+    req_text = fmt(float(r[field]), unit_shown, scale)
+    notes = assumptions(r, tree, takeoff_mass)
     if cap is None:
-        return f"{req_text} {need}"
+        return f"{req_text} {need}{notes}"
     note = ""
-    if field in ("mach", "speed") and r["kind"] != "stall-speed":
-        ac = M.aircraft(tree)
+    if field in ("mach", "speed", "cas", "eas") and r["kind"] not in ("stall-speed", "approach-speed"):
+        ac = M.aircraft(tree, takeoff_mass)
         req = M.requirement(dict(r, **{field: cap}), ac, beta)
         air = C.condition(req)
         if float(C.fixed_speed(req, air)) >= 0.999 * float(C.max_free_speed(ac, air)):
             note = " (at the speed limit)"
-    return f"{have} {fmt(cap, unit, scale)}{note} vs {req_text} {need}"
+    return f"{have} {fmt(cap, unit_shown, scale)}{note} vs {req_text} {need}{notes}"
+
+
+def assumptions(r: dict, tree: dict, takeoff_mass=None) -> str:
+    """' (...)' naming what a requirement assumed: obstacle height, climb segment and paragraph,
+    the propeller efficiency of field kinds; '' when nothing needs saying."""
+    parts = []
+    form = M.form_of(r)
+    if form in ("distance", "balanced_field", "field_length") and "obstacle" in r:
+        parts.append(f"{'over' if r['kind'] == 'takeoff' else 'from'} {r['obstacle'] / 0.3048:.0f} ft")
+    if form == "field_length":
+        parts.append(f"landing distance / {r.get('factor', 0.6):g}")
+    seg = r.get("segment")
+    if r["kind"] == "climb-gradient" and seg:
+        parts.append(f"{C.CLIMB_SEGMENTS[seg]['paragraph']}, {C.CLIMB_SEGMENTS[seg]['what']}")
+    prop = tree["aircraft"]["propulsion"]
+    field_kind = r["kind"] == "takeoff" or (r["kind"] == "climb-gradient" and seg in ("first", "second"))
+    if field_kind and prop["type"] in ("turboprop", "piston"):
+        eta_to = prop.get("takeoff_propeller_efficiency")
+        eta = f"propeller efficiency {eta_to:g} (takeoff value)" if eta_to is not None else \
+            f"propeller efficiency {prop.get('propeller_efficiency', 0.8):g} (the cruise value: no takeoff value given)"
+        D = prop.get("propeller_diameter")
+        if D is not None:
+            eta += f", thrust capped by momentum theory at {D:.2f} m diameter"
+        elif eta_to is None:
+            eta += ", no propeller_diameter for a momentum-theory cap"
+        parts.append(eta)
+    return f" ({'; '.join(parts)})" if parts else ""

@@ -113,7 +113,7 @@ class Problem:
         rows are (rid, what) labels and values the matching expressions
         (>= 0 when satisfied, except "closure" which is == 0).
         """
-        ac = M.aircraft(tree)
+        ac = M.aircraft(tree, m_TO)
         betas = {}
         segs = Wt.mission_fractions(tree, ac, W_S) if Wt.has_mission_fuel(tree) else None
         seg_end = Wt.segment_end_fractions(tree, ac, W_S, segs)
@@ -129,7 +129,10 @@ class Problem:
             kind = C.KINDS[r["kind"]]
             Vf = V.get(rid)
             b = kind.function(W_S, Vf, req, ac)
-            if b.thrust is not None:
+            if b.margin_of is not None:       # a field length: its fractional distance margin
+                rows.append((rid, "thrust"))
+                vals.append(b.margin_of(Y))
+            elif b.thrust is not None:
                 rows.append((rid, "thrust"))
                 vals.append((Y - b.thrust) / self.Y_scale)
             if b.wing_loading is not None:
@@ -137,9 +140,10 @@ class Problem:
                 vals.append((b.wing_loading - W_S) / self.WS_scale)
             if Vf is not None:
                 air = C.condition(req)
-                q = 0.5 * air.density * Vf ** 2
-                rows.append((rid, "stall"))
-                vals.append((q * ac.polar.CLmax(C.config_of(req)) - req.beta * W_S) / self.WS_scale)
+                # min_speed_factor x the configuration's stall speed, and buffet onset
+                for what, have, need in C.speed_floors(req, ac, W_S, Vf):
+                    rows.append((rid, what))
+                    vals.append((have - need) / self.WS_scale)
                 rows.append((rid, "speed_max"))
                 vals.append((C.max_free_speed(ac, air) - Vf) / self.V_scale)
         rows.append(("", "closure"))

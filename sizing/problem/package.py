@@ -28,8 +28,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     terms, sensitivities in the user's units, fuel by segment, edges of the search region."""
     spec = spec or prob.spec
     tree = prob.tree_of(p)
-    ac = M.aircraft(tree)
     W_S, Y, m_TO = float(x[0] * prob.WS_scale), float(x[1] * prob.Y_scale), float(x[2] * prob.m_ref)
+    ac = M.aircraft(tree, m_TO)
     V = {rid: float(x[3 + i] * prob.V_scale) for i, rid in enumerate(prob.free)}
     with np.errstate(all="ignore"):
         rows, vals, f_fuel, f_empty, betas = prob.expressions(tree, W_S, Y, m_TO, V)
@@ -51,9 +51,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         if b.wing_loading is not None:
             margins.append(float(np.asarray(b.wing_loading)) / W_S - 1.0)
         if rid in V:
-            air = C.condition(req)
-            q = 0.5 * air.density * V[rid] ** 2
-            margins.append(q * ac.polar.CLmax(C.config_of(req)) / (req.beta * W_S) - 1.0)
+            margins += [float(np.asarray(have)) / float(np.asarray(need)) - 1.0
+                        for _, have, need in C.speed_floors(req, ac, W_S, V[rid])]
         margin = min(margins) if margins else math.inf
         active = margin <= ACTIVE_TOL
         if active:
@@ -67,11 +66,13 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             sens = sens * scale
         wf = r.get("weight_fraction")
         src = f"after {wf['after']}" if isinstance(wf, dict) else ("given" if wf is not None else "default 1.0")
+        if wf is None and M.at_landing_weight(r) and ac.max_landing_fraction is not None:
+            src = "max landing fraction"
         out.append(RequirementResult(
             id=rid, kind=r["kind"], active=active, margin=max(margin, 0.0),
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
-            detail=describe_margin(r, tree, spec, W_S, Y, betas[rid]),
+            detail=describe_margin(r, tree, spec, W_S, Y, betas[rid], m_TO),
             speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")

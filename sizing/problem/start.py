@@ -19,8 +19,32 @@ def scan(prob, p, n=48):
     closed (else x0 is the point needing the least thrust)."""
     """Best point of a coarse numpy scan over W/S (the spreadsheet way)."""
     tree = prob.tree_of(p)
-    ac = M.aircraft(tree)
     W = np.geomspace(prob.WS_bounds[0], prob.WS_bounds[1], n)
+    fixed = prob.fixed_mass(tree)
+    guess = 3.0 * fixed
+    # a propeller of given diameter makes the curves depend on the mass: scan twice, the
+    # second time at the first scan's closed masses
+    for _ in range(2 if M.needs_takeoff_mass(tree) else 1):
+        Y_need, ok, speeds, mass, closes = _scan_once(prob, tree, W, guess)
+        guess = np.where(np.isfinite(mass), mass, 3.0 * fixed)
+    score = np.where(ok & closes & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
+    found = bool(np.any(np.isfinite(score)))
+    if not np.any(np.isfinite(score)):
+        i = int(np.argmin(np.where(np.isfinite(Y_need), Y_need, np.inf)))
+    else:
+        i = int(np.argmin(score))
+    x0 = [W[i] / prob.WS_scale,
+          min(max(Y_need[i] if np.isfinite(Y_need[i]) else 0.5 * prob.Y_bounds[1], prob.Y_bounds[0]), prob.Y_bounds[1]) / prob.Y_scale,
+          (mass[i] if np.isfinite(mass[i]) else 3.0 * fixed) / prob.m_ref]
+    for rid in prob.free:
+        v = speeds.get(rid, np.full_like(W, 100.0))[i]
+        x0.append((v if np.isfinite(v) else 100.0) / prob.V_scale)
+    return np.clip(np.array(x0, dtype=float), prob.lbx, prob.ubx), found
+
+
+def _scan_once(prob, tree, W, takeoff_mass):
+    """(Y needed, W/S limits met, best free speeds, closed mass, closes) over the W/S grid."""
+    ac = M.aircraft(tree, takeoff_mass)
     Y_need = np.zeros_like(W)
     ok = np.ones_like(W, dtype=bool)
     speeds = {}
@@ -56,16 +80,4 @@ def scan(prob, p, n=48):
             mass = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
             mass = np.clip(mass, fixed, 1000 * fixed)     # a finite start for the next step
         closes &= mass < 1000 * fixed                      # inside the search region
-    score = np.where(ok & closes & np.isfinite(mass), mass * (1 + 1e-6 * Y_need), np.inf)
-    found = bool(np.any(np.isfinite(score)))
-    if not np.any(np.isfinite(score)):
-        i = int(np.argmin(np.where(np.isfinite(Y_need), Y_need, np.inf)))
-    else:
-        i = int(np.argmin(score))
-    x0 = [W[i] / prob.WS_scale,
-          min(max(Y_need[i] if np.isfinite(Y_need[i]) else 0.5 * prob.Y_bounds[1], prob.Y_bounds[0]), prob.Y_bounds[1]) / prob.Y_scale,
-          (mass[i] if np.isfinite(mass[i]) else 3.0 * fixed) / prob.m_ref]
-    for rid in prob.free:
-        v = speeds.get(rid, np.full_like(W, 100.0))[i]
-        x0.append((v if np.isfinite(v) else 100.0) / prob.V_scale)
-    return np.clip(np.array(x0, dtype=float), prob.lbx, prob.ubx), found
+    return Y_need, ok, speeds, mass, closes

@@ -16,6 +16,7 @@ All functions evaluate on floats, arrays and CasADi symbols.
 from __future__ import annotations
 
 from ..physics import shim as m
+from ..physics.airspeed import true_airspeed
 from ..physics.atmosphere import isa
 
 
@@ -72,9 +73,11 @@ def fuel_fraction_from_segments(product, reserve=0.0, trapped=0.0):
 
 
 def _segment_speed(seg, air):
-    if seg.get("mach") is not None:
-        return seg["mach"] * air.speed_of_sound
-    return seg.get("speed")
+    """True airspeed [m/s] of a segment given by mach, speed (TAS), cas or eas."""
+    for key in ("mach", "speed", "cas", "eas"):
+        if seg.get(key) is not None:
+            return true_airspeed(key, seg[key], air)
+    return None
 
 
 def segment_label(seg: dict, i: int) -> str:
