@@ -21,9 +21,13 @@ def _betas(tree, ac, W):
     return seg
 
 
-def curves(tree, W, n_speed=400):
-    """Required Y per requirement (inf where infeasible) and W/S limits, on grid W."""
-    ac = M.aircraft(tree)
+def curves(tree, W, n_speed=400, takeoff_mass=None):
+    """Required Y per requirement (inf where infeasible) and W/S limits, on grid W.
+
+    Free speeds are scanned densely from min_speed_factor x the stall speed to the speed limit,
+    speeds past buffet onset (CL x margin > CL_buffet(M)) dropped point by point.
+    """
+    ac = M.aircraft(tree, takeoff_mass)
     seg = _betas(tree, ac, W)
     need, lims = {}, {}
     for rid, r in tree["requirements"].items():
@@ -34,14 +38,18 @@ def curves(tree, W, n_speed=400):
         if kind.has_free_speed(req):
             air = C.condition(req)
             CLmax = ac.polar.CLmax(C.config_of(req))
-            V_lo = np.sqrt(2 * req.beta * W / (air.density * CLmax))
-            V_hi = float(C.max_free_speed(ac, air))
+            k = r.get("min_speed_factor", 1.2)
+            V_lo = k * np.sqrt(2 * req.beta * W / (air.density * CLmax))
+            V_hi = float(C.max_free_speed(ac, air)) + 0 * V_lo
+            if r["kind"] == "ceiling" and ac.cl_buffet is not None:
+                V_lo, V_hi = _buffet_band(ac, air, np.asarray(req.beta) * W, V_lo, V_hi)
             u = np.linspace(0, 1, n_speed)
             V = V_lo[:, None] + u[None, :] * np.maximum(V_hi - V_lo, 0)[:, None]
             reqb = M.requirement(r, ac, beta[:, None] if beta is not None else None)
             with np.errstate(all="ignore"):
                 T = np.asarray(kind.function(W[:, None], V, reqb, ac).thrust, float)
             T = np.where(np.isfinite(T) & (T > 0), T, np.inf)
+
             best = T.min(axis=1)
             best = np.where(V_hi >= V_lo, best, np.inf)
             need[rid] = best
@@ -53,6 +61,32 @@ def curves(tree, W, n_speed=400):
             if b.wing_loading is not None:
                 lims[rid] = np.broadcast_to(np.asarray(b.wing_loading, float), W.shape)
     return need, lims
+
+
+def _buffet_band(ac, air, betaW, V_lo, V_hi, n=400):
+    """Speeds (per W/S) where CL x margin <= CL_buffet(M): a dense grid, then the two edges by
+    bisection on the condition itself (written here, apart from the solver's)."""
+    def fine(V):
+        CL = betaW[:, None] / (0.5 * air.density * V ** 2)
+        CLb = ac.cl_buffet(V / air.speed_of_sound) if callable(ac.cl_buffet) else ac.cl_buffet + 0 * V
+        return CL * ac.buffet_margin <= CLb
+
+    V = V_lo[:, None] + np.linspace(0, 1, n)[None, :] * np.maximum(V_hi - V_lo, 0)[:, None]
+    ok = fine(V)
+    some = ok.any(axis=1)
+    rows = np.arange(len(V_lo))
+    j1 = np.argmax(ok, axis=1)
+    j2 = n - 1 - np.argmax(ok[:, ::-1], axis=1)
+    a, b = V[rows, np.maximum(j1 - 1, 0)], V[rows, j1]
+    a = np.where(j1 > 0, a, b)
+    c, d = V[rows, j2], V[rows, np.minimum(j2 + 1, n - 1)]
+    d = np.where(j2 < n - 1, d, c)
+    for _ in range(60):
+        m1, m2 = 0.5 * (a + b), 0.5 * (c + d)
+        g1, g2 = fine(m1[:, None])[:, 0], fine(m2[:, None])[:, 0]
+        a, b = np.where(g1, a, m1), np.where(g1, m1, b)
+        c, d = np.where(g2, m2, c), np.where(g2, d, m2)
+    return np.where(some, b, np.inf), np.where(some, c, -np.inf)
 
 
 def closure(tree, W, Y, propeller):
@@ -74,8 +108,8 @@ def closure(tree, W, Y, propeller):
 
 def best(tree, W_bounds, Y_bounds, propeller, n=3000, n_speed=300):
     """Lightest grid point; refined once around the best coarse cell."""
-    def scan(W):
-        need, lims = curves(tree, W, n_speed)
+    def scan_at(W, mass):
+        need, lims = curves(tree, W, n_speed, mass)
         Y = np.zeros_like(W)
         for v in need.values():
             Y = np.maximum(Y, v)
@@ -85,6 +119,21 @@ def best(tree, W_bounds, Y_bounds, propeller, n=3000, n_speed=300):
             ok &= W <= v
         m = closure(tree, W, np.where(ok, Y, 0.0), propeller)
         m = np.where(ok, m, np.inf)
+        return m, Y, need, lims
+
+    def scan(W):
+        """A propeller of given diameter makes the curves depend on the mass: fixed-point
+        iteration of mass -> curves -> closure at every grid point."""
+        if not M.needs_takeoff_mass(tree):
+            return scan_at(W, None)
+        w = tree["aircraft"]["weights"]
+        mass = np.full_like(W, 3.0 * (w.get("crew", 0.0) + w.get("payload", 0.0)))
+        for _ in range(60):
+            m, Y, need, lims = scan_at(W, mass)
+            new = np.where(np.isfinite(m), m, mass)
+            if np.allclose(new, mass, rtol=1e-11):
+                break
+            mass = new
         return m, Y, need, lims
 
     W = np.geomspace(W_bounds[0], W_bounds[1], n)

@@ -1,5 +1,6 @@
 """Constraint functions of every requirement kind against worked examples and hand calculations."""
 import math
+from types import SimpleNamespace
 
 import casadi as ca
 import numpy as np
@@ -211,6 +212,19 @@ def test_power_to_weight_conversion():
 
 ALL_KINDS = {
     "stall-speed": {"speed": 50.0},
+    "stall-speed:cas": {"kind": "stall-speed", "cas": 50.0, "altitude": 2000.0},
+    "approach-speed": {"eas": 60.0, "factor": 1.3},
+    "ceiling:engine-out": {"kind": "ceiling", "altitude": 4000.0, "engines_out": 1.0, "min_speed_factor": 1.25},
+    "takeoff:distance": {"kind": "takeoff", "distance": 1200.0, "obstacle": 15.24, "rotation_time": 3.0,
+                         "rolling_friction": 0.04, "liftoff_speed_ratio": 1.1},
+    "takeoff:balanced_field": {"kind": "takeoff", "balanced_field": 1500.0, "obstacle": 10.668,
+                               "rotation_time": 3.0, "rolling_friction": 0.04, "liftoff_speed_ratio": 1.1},
+    "landing:distance": {"kind": "landing", "distance": 1000.0, "braking_friction": 0.4, "free_roll_time": 3.0,
+                         "touchdown_speed_ratio": 1.15},
+    "landing:field_length": {"kind": "landing", "field_length": 1500.0, "braking_friction": 0.4,
+                             "touchdown_speed_ratio": 1.15},
+    "climb-gradient:second": {"kind": "climb-gradient", "segment": "second", "gradient": 0.024,
+                              "engines_out": 1.0, "speed_ratio": 1.13, "gear": "up"},
     "sustained-turn": {"load_factor": 3.0, "mach": 0.5, "altitude": 4000.0},
     "max-mach": {"mach": 0.8, "altitude": 9000.0},
     "ceiling": {"altitude": 12000.0},
@@ -225,35 +239,59 @@ ALL_KINDS = {
 
 
 @pytest.mark.parametrize("engine", ["turbofan-low-bypass", "turboprop"])
-@pytest.mark.parametrize("kind", sorted(ALL_KINDS))
-def test_float_array_casadi_agree(kind, engine):
+@pytest.mark.parametrize("label", sorted(ALL_KINDS))
+def test_float_array_casadi_agree(label, engine):
     # common practice, no source: the diagram (numpy) and the optimizer (CasADi) see one function
-    ac = aircraft(engine)
-    d = {"id": "x", "kind": kind, **ALL_KINDS[kind]}
+    ac = aircraft(engine, cl_buffet=0.9, takeoff_drag_increment=0.02)
+    ac.propeller_diameter = 2.5 if engine == "turboprop" else None
+    ac.engine_out_drag_increment = 0.004
+    ac.gear_drag_increment = 0.01
+    ac.buffet_margin = 1.3
+    ac.takeoff_mass = np.array([6000.0, 9000.0, 12000.0])
+    kind = label.split(":")[0]
+    d = {"id": "x", "kind": kind, **ALL_KINDS[label]}
     r = M.requirement(d, ac)
     W = np.array([800.0, 2000.0, 4500.0])
     kd = C.KINDS[kind]
     V = np.array([90.0, 120.0, 150.0]) if kd.has_free_speed(r) else None
     arr = kd.function(W, V, r, ac)
-    ws, vs = ca.SX.sym("ws"), ca.SX.sym("v")
-    sym = kd.function(ws, vs if V is not None else None, r, ac)
+    ws, vs, mm, yy = ca.SX.sym("ws"), ca.SX.sym("v"), ca.SX.sym("m"), ca.SX.sym("y")
+    ac_sym = SimpleNamespace(**{**vars(ac), "takeoff_mass": mm})
+    sym = kd.function(ws, vs if V is not None else None, r, ac_sym)
+    if arr.margin_of is not None:
+        # a field length: its distance margin at a trial T/W (P/W) agrees on every backend, and
+        # the numeric thrust is the margin's root
+        Y = np.array([0.3, 0.5, 0.7]) * (40.0 if engine == "turboprop" else 1.0)
+        f = ca.Function("f", [ws, mm, yy], [sym.margin_of(yy)])
+        for i in range(3):
+            ac_i = SimpleNamespace(**{**vars(ac), "takeoff_mass": float(ac.takeoff_mass[i])})
+            one = kd.function(float(W[i]), None, r, ac_i)
+            ai = np.asarray(arr.margin_of(Y))[i]
+            assert float(one.margin_of(float(Y[i]))) == pytest.approx(ai, rel=1e-12)
+            assert float(f(W[i], ac.takeoff_mass[i], Y[i])) == pytest.approx(ai, rel=1e-12, abs=1e-12)
+            assert float(one.thrust) == pytest.approx(float(np.asarray(arr.thrust)[i]), rel=1e-12)
+            if np.isfinite(one.thrust):
+                assert float(one.margin_of(one.thrust)) == pytest.approx(0.0, abs=1e-9)
+        assert sym.thrust is None
+        return
     for part in ("thrust", "wing_loading"):
         a = getattr(arr, part)
         if a is None:
             assert getattr(sym, part) is None
             continue
-        f = ca.Function("f", [ws, vs], [getattr(sym, part)])
+        f = ca.Function("f", [ws, vs, mm], [getattr(sym, part)])
         for i in range(3):
-            fl = getattr(kd.function(float(W[i]), None if V is None else float(V[i]), r, ac), part)
+            ac_i = SimpleNamespace(**{**vars(ac), "takeoff_mass": float(ac.takeoff_mass[i])})
+            fl = getattr(kd.function(float(W[i]), None if V is None else float(V[i]), r, ac_i), part)
             ai = np.broadcast_to(a, W.shape)[i]
             assert float(fl) == pytest.approx(ai, rel=1e-12)
-            assert float(f(W[i], 0.0 if V is None else V[i])) == pytest.approx(ai, rel=1e-12)
+            assert float(f(W[i], 0.0 if V is None else V[i], ac.takeoff_mass[i])) == pytest.approx(ai, rel=1e-12)
 
 
 def test_every_design_kind_has_a_function_with_source():
     # common practice, no source: docs/file-format.md §4 lists these kinds; each carries a published reference
     design_kinds = {"stall-speed", "sustained-turn", "max-mach", "ceiling", "climb", "excess-power", "cruise",
-                    "instantaneous-turn", "takeoff", "landing", "climb-gradient"}
+                    "instantaneous-turn", "takeoff", "landing", "climb-gradient", "approach-speed"}
     assert set(C.KINDS) == design_kinds
     for k in C.KINDS.values():
         assert k.reference and k.function.__doc__

@@ -15,6 +15,9 @@ from hypothesis import strategies as st
 
 from sizing.problem import tree as M
 from sizing.problem import Problem, build, solve
+from sizing.physics.airspeed import cas_to_mach
+from sizing.physics.atmosphere import isa
+from sizing.problem.capability import user_unit
 from sizing.inputs.spec import load, validate
 
 from . import bruteforce as BF
@@ -62,7 +65,7 @@ def test_answer_is_verified_in_numpy():
         res = solve(spec)
         tree = M.spec_tree(spec)
         W = np.array([res.design.wing_loading])
-        need, lims = BF.curves(tree, W, n_speed=2000)
+        need, lims = BF.curves(tree, W, n_speed=2000, takeoff_mass=res.design.takeoff_mass)
         Y = res.design.power_to_weight if res.propeller else res.design.thrust_to_weight
         for rid, v in need.items():
             assert Y >= v[0] * (1 - 1e-5), rid
@@ -91,6 +94,9 @@ BASE = {
 }
 
 
+KN = 1852.0 / 3600.0
+
+
 @st.composite
 def requirement_sets(draw):
     d = copy.deepcopy(BASE)
@@ -103,44 +109,95 @@ def requirement_sets(draw):
     ac["aerodynamics"]["cl_max"]["clean"] = draw(st.floats(1.1, 1.6))
     ac["weights"]["empty"]["other"] = draw(st.floats(0.25, 0.42))
     ac["weights"]["fuel"]["fraction"] = draw(st.floats(0.08, 0.25))
+    limit_mach = 0.85
     if prop:
         ac["weights"]["empty"]["propulsion"] = f"{draw(st.floats(0.3, 1.2)):.3f} kg/kW"
-        ac["speed_limit"] = {"mach": draw(st.floats(0.35, 0.6))}
+        limit_mach = round(draw(st.floats(0.35, 0.6)), 3)
+        ac["speed_limit"] = {"mach": limit_mach}
+        if draw(st.booleans()):
+            ac["propulsion"]["propeller_diameter"] = f"{draw(st.floats(1.8, 4.0)):.2f} m"
+        if draw(st.booleans()):
+            ac["propulsion"]["takeoff_propeller_efficiency"] = round(draw(st.floats(0.55, 0.8)), 3)
+    vmo = None
+    if not prop and draw(st.booleans()):       # VMO and MMO together
+        vmo = draw(st.floats(280, 360))
+        ac["speed_limit"]["cas"] = f"{vmo:.0f} kn"
+    if draw(st.booleans()):
+        ac["aerodynamics"]["engine_out_drag_increment"] = round(draw(st.floats(0.0, 0.01)), 4)
+    if draw(st.booleans()):
+        ac["aerodynamics"]["gear_drag_increment"] = round(draw(st.floats(0.0, 0.02)), 4)
+    if not prop and draw(st.booleans()):
+        ac["aerodynamics"]["cl_buffet"] = round(draw(st.floats(0.7, 1.1)), 3)
+    if draw(st.booleans()):
+        ac["weights"]["max_landing_fraction"] = round(draw(st.floats(0.8, 1.0)), 3)
     reqs = []
     pool = ["stall-speed", "ceiling", "climb", "cruise", "takeoff", "landing", "sustained-turn",
-            "climb-gradient", "instantaneous-turn", "excess-power", "max-mach"]
+            "climb-gradient", "instantaneous-turn", "excess-power", "max-mach", "approach-speed",
+            "takeoff-distance", "balanced-field", "landing-distance", "field-length", "climb-segment"]
     kinds = draw(st.lists(st.sampled_from(pool), min_size=2, max_size=6, unique=True))
-    top_mach = 0.55 if prop else 0.8
-    for i, k in enumerate(kinds):
-        rid = f"{k}-{i}"
-        if k == "stall-speed":
-            r = {"speed": f"{draw(st.floats(55, 130)):.2f} kn", "config": "landing"}
-        elif k == "ceiling":
+    top_mach = min(0.55, limit_mach) if prop else 0.8
+
+    def mach_at(lo, alt_ft):
+        """A Mach number from lo up to the top, below VMO at the altitude when one is given."""
+        top = top_mach
+        if vmo is not None:
+            top = min(top, 0.98 * float(cas_to_mach(vmo * KN, isa(alt_ft * 0.3048))))
+        return round(draw(st.floats(min(lo, 0.9 * top), top)), 3)
+
+    for i, label in enumerate(kinds):
+        rid = f"{label}-{i}"
+        k = {"takeoff-distance": "takeoff", "balanced-field": "takeoff", "landing-distance": "landing",
+             "field-length": "landing", "climb-segment": "climb-gradient"}.get(label, label)
+        if label == "stall-speed":
+            r = {draw(st.sampled_from(["speed", "cas", "eas"])): f"{draw(st.floats(55, 130)):.2f} kn",
+                 "config": "landing"}
+        elif label == "approach-speed":
+            r = {draw(st.sampled_from(["speed", "cas", "eas"])): f"{draw(st.floats(75, 160)):.2f} kn",
+                 "factor": round(draw(st.floats(1.2, 1.4)), 3)}
+        elif label == "ceiling":
             r = {"altitude": f"{draw(st.floats(8000, 40000 if not prop else 25000)):.0f} ft"}
-        elif k == "climb":
+            if draw(st.booleans()):
+                r.update(engines_out=1, altitude=f"{draw(st.floats(2000, 15000)):.0f} ft", climb_rate="50 ft/min")
+        elif label == "climb":
             r = {"climb_rate": f"{draw(st.floats(300, 3000)):.0f} ft/min"}
             if draw(st.booleans()):
-                r["speed"] = f"{draw(st.floats(90, 250)):.1f} kn"
-        elif k == "cruise":
-            r = {"mach": round(draw(st.floats(0.2, top_mach)), 3), "altitude": f"{draw(st.floats(0, 30000)):.0f} ft",
-                 "throttle": round(draw(st.floats(0.6, 1.0)), 3)}
-        elif k == "takeoff":
+                top = min(250.0, 0.95 * limit_mach * 340.294 / KN, 0.95 * (vmo or 1e9))
+                r[draw(st.sampled_from(["speed", "cas"]))] = f"{draw(st.floats(90, top)):.1f} kn"
+        elif label == "cruise":
+            alt = draw(st.floats(0, 30000))
+            r = {"mach": mach_at(0.2, alt), "altitude": f"{alt:.0f} ft", "throttle": round(draw(st.floats(0.6, 1.0)), 3)}
+        elif label == "takeoff":
             r = {"ground_roll": f"{draw(st.floats(300, 1500)):.0f} m", "altitude": f"{draw(st.floats(0, 5000)):.0f} ft"}
-        elif k == "landing":
+        elif label == "takeoff-distance":
+            r = {"distance": f"{draw(st.floats(500, 2500)):.0f} m", "altitude": f"{draw(st.floats(0, 5000)):.0f} ft"}
+        elif label == "balanced-field":
+            r = {"balanced_field": f"{draw(st.floats(900, 2500)):.0f} m",
+                 "temperature_offset": f"{draw(st.floats(0, 20)):.0f} K"}
+            if prop and "propeller_diameter" not in ac["propulsion"]:
+                ac["propulsion"]["propeller_diameter"] = f"{draw(st.floats(1.8, 4.0)):.2f} m"
+        elif label == "landing":
             r = {"ground_roll": f"{draw(st.floats(300, 1500)):.0f} m"}
-        elif k == "sustained-turn":
-            r = {"load_factor": round(draw(st.floats(1.5, 3.0)), 2), "mach": round(draw(st.floats(0.3, top_mach)), 3),
-                 "altitude": f"{draw(st.floats(0, 20000)):.0f} ft"}
-        elif k == "climb-gradient":
+        elif label == "landing-distance":
+            r = {"distance": f"{draw(st.floats(500, 2000)):.0f} m"}
+        elif label == "field-length":
+            r = {"field_length": f"{draw(st.floats(800, 3000)):.0f} m"}
+        elif label == "sustained-turn":
+            alt = draw(st.floats(0, 20000))
+            r = {"load_factor": round(draw(st.floats(1.5, 3.0)), 2), "mach": mach_at(0.3, alt), "altitude": f"{alt:.0f} ft"}
+        elif label == "climb-gradient":
             r = {"gradient": f"{draw(st.floats(1.0, 4.0)):.2f} %", "engines_out": 1}
-        elif k == "instantaneous-turn":
-            r = {"load_factor": round(draw(st.floats(2.0, 5.0)), 2), "mach": round(draw(st.floats(0.3, top_mach)), 3)}
-        elif k == "excess-power":
+        elif label == "climb-segment":
+            r = {"segment": draw(st.sampled_from(["first", "second", "final", "approach", "landing"]))}
+        elif label == "instantaneous-turn":
+            r = {"load_factor": round(draw(st.floats(2.0, 5.0)), 2), "mach": mach_at(0.3, 0.0)}
+        elif label == "excess-power":
+            alt = draw(st.floats(0, 20000))
             r = {"excess_power": f"{draw(st.floats(100, 2000)):.0f} ft/min", "load_factor": 1.0,
-                 "mach": round(draw(st.floats(0.3, top_mach)), 3), "altitude": f"{draw(st.floats(0, 20000)):.0f} ft"}
+                 "mach": mach_at(0.3, alt), "altitude": f"{alt:.0f} ft"}
         else:
-            r = {"mach": round(draw(st.floats(0.3, top_mach)), 3), "altitude": f"{draw(st.floats(0, 30000)):.0f} ft"}
-        if draw(st.booleans()) and k not in ("takeoff",):
+            alt = draw(st.floats(0, 30000))
+            r = {"mach": mach_at(0.3, alt), "altitude": f"{alt:.0f} ft"}
+        if draw(st.booleans()) and k != "takeoff":
             r["weight_fraction"] = round(draw(st.floats(0.8, 1.0)), 3)
         reqs.append({"id": rid, "kind": k, **r})
     d["requirements"] = reqs
@@ -178,12 +235,7 @@ def test_sensitivities_match_finite_differences(path):
         unit_scale = r.sensitivity / fd if fd != 0 else None
         si = r.sensitivity / (unit_scale if unit_scale else 1)
         # compare in SI: the result's sensitivity is per user unit
-        spec_req = spec.requirement(r.id)
-        q = getattr(spec_req, field)
-        scale = getattr(q, "scale", 1.0)
-        if field == "gradient" and isinstance(spec.data["requirements"][0], dict):
-            raw = next(x for x in spec.data["requirements"] if x["id"] == r.id)
-            scale = 0.01 if str(raw[field]).strip().endswith("%") else 1.0
+        scale = user_unit(spec, r.id, field)[1]    # the user's unit (a segment's gradient: %)
         si = r.sensitivity / scale
         assert si == pytest.approx(fd, rel=1e-2, abs=1e-6 * res.design.takeoff_mass), r.id
 
@@ -197,8 +249,8 @@ def test_parameters_resolve_without_rebuilding():
     data = copy.deepcopy(spec.data)
     changed = 0
     for r in data["requirements"]:
-        if r["id"] in r1.drivers and r["kind"] == "ceiling":
-            r["altitude"] = f"{spec.requirement(r['id']).altitude.si / 0.3048 + 2000:.0f} ft"
+        if r["id"] in r1.drivers and r["kind"] == "cruise":
+            r["speed"] = f"{spec.requirement(r['id']).speed.si / (1852 / 3600) + 10:.0f} kn"
             changed += 1
     assert changed == 1
     spec2 = validate(data, "<changed>")

@@ -81,6 +81,7 @@ from .flight import (
 from .registry import (
     DEFAULT_MIN_SPEED_FACTOR,
     KINDS,
+    buffet_speed_range,
     Kind,
     evaluate,
     free_speed_range,
@@ -94,7 +95,7 @@ from .turns import excess_power, instantaneous_turn, sustained_turn
 
 __all__ = ["CLIMB_SEGMENTS", "DEFAULT_MIN_SPEED_FACTOR", "FT_PER_MIN", "SEGMENT_KEYS", "SERVICE_CEILING_CLIMB_RATE",
            "SPEED_KEYS", "Bound", "KINDS", "Kind", "approach_speed", "average_takeoff_thrust",
-           "balanced_field_length", "balanced_field_of", "buffet_limit", "by_margin", "ceiling", "climb",
+           "balanced_field_length", "balanced_field_of", "buffet_limit", "buffet_speed_range", "by_margin", "ceiling", "climb",
            "climb_gradient", "condition", "config_of", "cruise", "engine_out_climb_thrust", "engines_running",
            "evaluate", "excess_power", "fixed_speed", "flight_thrust", "free_speed_range", "ground_roll_distance",
            "instantaneous_turn", "landing", "landing_air_distance", "landing_distance_of", "landing_distance_wing_loading",

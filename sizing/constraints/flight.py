@@ -128,7 +128,8 @@ def fixed_speed(req, air):
     key = speed_key(req)
     if key is None:
         return None
-    return airspeed.true_airspeed(key, getattr(req, key), air)
+    # the file's values are checked subsonic on input; relaxations and studies may go further
+    return airspeed.true_airspeed(key, getattr(req, key), air, strict=False)
 
 
 def speed_limit(ac, air):

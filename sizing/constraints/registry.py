@@ -67,22 +67,27 @@ def evaluate(req, ac, W_S, V=None) -> Bound:
 
 
 def free_speed_range(req, ac, W_S):
-    """Lowest and highest free speed [m/s] at W_S (numbers): :func:`min_free_speed` and
-    :func:`max_free_speed`."""
+    """Lowest and highest free speed [m/s] at W_S (numbers): ``min_speed_factor`` x the stall
+    speed up to :func:`max_free_speed`, narrowed to the buffet-free band where the kind has one
+    (:func:`buffet_speed_range`). Empty (low > high) where no speed is left."""
     air = condition(req)
-    return min_free_speed(req, ac, W_S), max_free_speed(ac, air)
+    V_lo, V_hi = min_free_speed(req, ac, W_S), max_free_speed(ac, air)
+    if KINDS[req.kind].buffet and getattr(ac, "cl_buffet", None) is not None:
+        V_lo, V_hi = buffet_speed_range(req, ac, W_S, V_lo, V_hi)
+    return V_lo, V_hi
 
 
 DEFAULT_MIN_SPEED_FACTOR = 1.2
 
 
 def speed_floors(req, ac, W_S, V):
-    """The lower bounds of a free speed V as (name, have, need) pairs, met when have >= need:
+    """The lower bounds of a free speed V as (name, have, need) triples, met when have >= need:
 
-    * ``stall``: q CLmax(config) >= k^2 n beta W/S, i.e. V >= k V_stall with k the requirement's
+    * ``stall``: q CLmax(config) >= k^2 beta W/S, i.e. V >= k V_stall with k the requirement's
       ``min_speed_factor`` (default 1.2);
     * ``buffet`` (ceiling, when ``cl_buffet`` is given): q CL_buffet(M) >= n_b beta W/S, i.e.
-      CL x buffet margin <= CL_buffet.
+      CL x buffet margin <= CL_buffet (with CL_buffet falling with Mach this bounds the speed
+      from above too: the high-speed buffet boundary).
 
     On numbers and symbols alike: the optimizer's rows are have - need, the margins have/need - 1.
     """
@@ -97,25 +102,55 @@ def speed_floors(req, ac, W_S, V):
     return out
 
 
-def min_free_speed(req, ac, W_S, iterations=50):
-    """Lowest free speed [m/s] at W_S (numbers): every floor of :func:`speed_floors` met
-    (bisection where CL_buffet is a Mach table)."""
+def min_free_speed(req, ac, W_S):
+    """``min_speed_factor`` x the stall speed of the requirement's configuration [m/s] (numbers)."""
     air = condition(req)
-    W_S = np.asarray(W_S, dtype=float)
     k = getattr(req, "min_speed_factor", None)
     k = DEFAULT_MIN_SPEED_FACTOR if k is None else k
-    rho = np.asarray(air.density, dtype=float)
-    V = k * np.sqrt(2.0 * req.beta * W_S / (rho * ac.polar.CLmax(config_of(req))))
-    if KINDS[req.kind].buffet and getattr(ac, "cl_buffet", None) is not None:
-        a = np.asarray(air.speed_of_sound, dtype=float)
-        need = ac.buffet_margin * req.beta * W_S
-        lo, hi = np.zeros_like(V + 0.0 * need), np.broadcast_to(5.0 * a, np.shape(V + 0.0 * need)).copy()
+    return k * np.sqrt(2.0 * req.beta * np.asarray(W_S, dtype=float)
+                       / (np.asarray(air.density, dtype=float) * ac.polar.CLmax(config_of(req))))
+
+
+def buffet_speed_range(req, ac, W_S, V_lo, V_hi, samples=64, iterations=40):
+    """The part of [V_lo, V_hi] where CL x buffet margin <= CL_buffet(M) [m/s] (numbers).
+
+    q CL_buffet(M) rises with speed at low Mach and falls where CL_buffet drops steeply (the
+    high-speed buffet boundary), so the band is found on a grid and its edges refined by
+    bisection; (inf, -inf) where no speed is buffet-free.
+    """
+    air = condition(req)
+    rho, a = np.asarray(air.density, dtype=float), np.asarray(air.speed_of_sound, dtype=float)
+    need = np.asarray(ac.buffet_margin * np.asarray(req.beta) * np.asarray(W_S, dtype=float), dtype=float)
+    shape = np.broadcast_shapes(need.shape, np.shape(V_lo), np.shape(V_hi))
+    need = np.broadcast_to(need, shape).reshape(-1)
+    lo0 = np.broadcast_to(np.asarray(V_lo, dtype=float), shape).reshape(-1)
+    hi0 = np.broadcast_to(np.asarray(V_hi, dtype=float), shape).reshape(-1)
+
+    def ok(V):
+        return 0.5 * rho * V ** 2 * np.asarray(coefficient(ac.cl_buffet, V / a)) >= need[:, None]
+
+    u = np.linspace(0.0, 1.0, samples)
+    V = lo0[:, None] + u * np.maximum(hi0 - lo0, 0.0)[:, None]
+    good = ok(V)
+    some = good.any(axis=1) & (hi0 >= lo0)
+    rows = np.arange(V.shape[0])
+    j1 = np.argmax(good, axis=1)
+    j2 = samples - 1 - np.argmax(good[:, ::-1], axis=1)
+
+    def edge(a_, b_, rising):
         for _ in range(iterations):
-            mid = 0.5 * (lo + hi)
-            ok = 0.5 * rho * mid ** 2 * np.asarray(coefficient(ac.cl_buffet, mid / a)) >= need
-            lo, hi = np.where(ok, lo, mid), np.where(ok, mid, hi)
-        V = np.maximum(V, hi)
-    return V
+            mid = 0.5 * (a_ + b_)
+            g = ok(mid[:, None])[:, 0]
+            if rising:
+                a_, b_ = np.where(g, a_, mid), np.where(g, mid, b_)
+            else:
+                a_, b_ = np.where(g, mid, a_), np.where(g, b_, mid)
+        return b_ if rising else a_
+
+    lo = np.where(j1 > 0, edge(V[rows, np.maximum(j1 - 1, 0)], V[rows, j1], True), lo0)
+    hi = np.where(j2 < samples - 1, edge(V[rows, j2], V[rows, np.minimum(j2 + 1, samples - 1)], False), hi0)
+    lo, hi = np.where(some, lo, np.inf), np.where(some, hi, -np.inf)
+    return lo.reshape(shape), hi.reshape(shape)
 
 
 def max_free_speed(ac, air):

@@ -220,13 +220,13 @@ def assumptions(r: dict, tree: dict, takeoff_mass=None) -> str:
     prop = tree["aircraft"]["propulsion"]
     field_kind = r["kind"] == "takeoff" or (r["kind"] == "climb-gradient" and seg in ("first", "second"))
     if field_kind and prop["type"] in ("turboprop", "piston"):
-        eta_to = prop.get("takeoff_propeller_efficiency")
-        eta = f"propeller efficiency {eta_to:g} (takeoff value)" if eta_to is not None else \
-            f"propeller efficiency {prop.get('propeller_efficiency', 0.8):g} (the cruise value: no takeoff value given)"
-        D = prop.get("propeller_diameter")
+        eta_to, D = prop.get("takeoff_propeller_efficiency"), prop.get("propeller_diameter")
+        if eta_to is not None:
+            eta = f"propeller efficiency {eta_to:g}, the takeoff value"
+        else:
+            eta = f"propeller efficiency {prop.get('propeller_efficiency', 0.8):g}: the cruise value, no takeoff value"
+            eta += " given" if D is not None else " or propeller diameter given"
         if D is not None:
-            eta += f", thrust capped by momentum theory at {D:.2f} m diameter"
-        elif eta_to is None:
-            eta += ", no propeller_diameter for a momentum-theory cap"
+            eta += f"; momentum-theory cap at {D:.2f} m diameter"
         parts.append(eta)
     return f" ({'; '.join(parts)})" if parts else ""

@@ -34,6 +34,7 @@ import numpy as np
 from .. import weights as Wt
 from ..common import stop
 from ..common.errors import SolverError
+from ..physics.airspeed import as_kind
 from ..physics.atmosphere import isa
 from . import tree as M
 from .capability import HARDER, user_unit
@@ -45,13 +46,15 @@ from .result import Infeasibility, Result
 _BOUNDS = {
     "load_factor": (1.01, 15.0), "mach": (0.02, 5.0), "speed": (1.0, 1700.0),
     "altitude": (-4000.0, 80000.0), "climb_rate": (0.0, 500.0), "excess_power": (0.0, 500.0),
-    "ground_roll": (1.0, 1.0e5), "gradient": (-0.1, 0.5),
+    "ground_roll": (1.0, 1.0e5), "gradient": (-0.1, 0.5), "cas": (1.0, 300.0), "eas": (1.0, 300.0),
+    "distance": (1.0, 1.0e5), "balanced_field": (1.0, 1.0e5), "field_length": (1.0, 1.0e5),
 }
 # smallest scale of a slack (SI), so a value written as 0 (sea level, zero
 # climb rate) still has a meaningful relative change (common practice, no source)
 _FLOOR = {
     "load_factor": 1.0, "mach": 0.1, "speed": 10.0, "altitude": 1000.0, "climb_rate": 1.0,
-    "excess_power": 10.0, "ground_roll": 100.0, "gradient": 0.01,
+    "excess_power": 10.0, "ground_roll": 100.0, "gradient": 0.01, "cas": 10.0, "eas": 10.0,
+    "distance": 100.0, "balanced_field": 100.0, "field_length": 100.0,
 }
 _OK = ("Solve_Succeeded", "Solved_To_Acceptable_Level")
 _OPTS = {"ipopt.print_level": 0, "print_time": False, "ipopt.sb": "yes", "ipopt.tol": 1e-10,
@@ -74,7 +77,7 @@ def _direction(r, field) -> int:
 
 # value fields whose easy direction depends on the design (a cruise or dash
 # speed meets a thrust limit above and a lift limit below): both ways may move
-_TWO_SIDED = {("cruise", "speed"), ("cruise", "mach"), ("max-mach", "speed"), ("max-mach", "mach")}
+_TWO_SIDED = {(k, f) for k in ("cruise", "max-mach") for f in ("speed", "mach", "cas", "eas")}
 
 
 class _Slack:
@@ -100,8 +103,9 @@ class _Slack:
         if self.two_sided:      # a faster cruise or dash must stay inside the drag polar's table
             top = prob.spec.model.aircraft.aerodynamics.mach_max
             if math.isfinite(top):
-                if self.field == "speed":
-                    top *= float(isa(r.get("altitude", 0.0), r.get("temperature_offset", 0.0)).speed_of_sound)
+                air = isa(r.get("altitude", 0.0), r.get("temperature_offset", 0.0))
+                if self.field != "mach":      # the table's top Mach as this field's kind of airspeed
+                    top = float(as_kind(self.field, top * float(air.speed_of_sound), air))
                 hi = min(hi, top * (1 - 1e-9))
         self.up = max(hi - self.v0, 0.0) if (self.two_sided or self.h < 0) else 0.0
         self.down = max(self.v0 - lo, 0.0) if (self.two_sided or self.h > 0) else 0.0

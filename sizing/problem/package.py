@@ -17,7 +17,7 @@ from .. import constraints as C
 from .. import weights as Wt
 from ..physics.atmosphere import g0
 from . import tree as M
-from .capability import describe_margin, sensitivity_unit
+from .capability import describe_margin, margin_at, sensitivity_unit
 from .result import Design, RequirementResult, Result
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
@@ -55,6 +55,10 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                         for _, have, need in C.speed_floors(req, ac, W_S, V[rid])]
         margin = min(margins) if margins else math.inf
         active = margin <= ACTIVE_TOL
+        if rid in V and not active:
+            # the solver's free speed of a requirement with slack is any feasible speed: the
+            # margin is the design's at its best speed (as the margin text is)
+            margin = margin_at(r, tree, W_S, Y, float(np.asarray(req.beta)), m_TO)
         if active:
             drivers.append(rid)
             margin = 0.0
