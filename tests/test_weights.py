@@ -131,7 +131,7 @@ def test_long_range_example_is_mission_driven():
     spec = load(ROOT / "requirements" / "long-range-jet.yaml")
     res = solve(spec)
     assert "mission fuel" in res.drivers
-    limits = [r for r in res.requirements if r.kind in ("stall-speed", "landing")]
+    limits = [r for r in res.requirements if r.kind in ("approach-speed", "landing")]
     assert all(not r.active and r.margin > 0.05 for r in limits)
     assert res.fuel_breakdown and sum(f for _, _, f in res.fuel_breakdown) * 1.06 == \
         pytest.approx(res.design.fuel_mass, rel=1e-9)
@@ -164,12 +164,14 @@ def mission_sets(draw):
     d["mission"]["tsfc"] = f"{draw(st.floats(0.5, 0.75)):.3f} 1/h"
     d["aircraft"]["weights"]["empty"]["wing"] = f"{draw(st.floats(25, 60)):.1f} kg/m^2"
     for r in d["requirements"]:
-        if r["kind"] == "stall-speed":
-            r["speed"] = f"{draw(st.floats(95, 140)):.1f} kn"
+        if r["kind"] == "approach-speed":
+            r["cas"] = f"{draw(st.floats(105, 140)):.1f} kn"
         if r["kind"] == "ceiling":
             r["altitude"] = f"{draw(st.floats(35000, 48000)):.0f} ft"
         if r["kind"] == "takeoff":
-            r["ground_roll"] = f"{draw(st.floats(900, 2000)):.0f} m"
+            r["balanced_field"] = f"{draw(st.floats(1300, 2500)):.0f} m"
+        if r["kind"] == "landing":
+            r["field_length"] = f"{draw(st.floats(1400, 2400)):.0f} m"
     return d
 
 

@@ -95,17 +95,32 @@ def _sample(r, ac, W_S, seg):
     return t, lim
 
 
-def sample_requirements(spec, W_S, exact=True) -> dict:
+def sample_requirements(spec, W_S, exact=True, takeoff_mass=None) -> dict:
     """{id: (required T/W or P/W array or None, W/S limit array or None)} at W_S [N/m^2].
 
     exact=False takes 1.0 for weight fractions given ``after:`` a mission
-    segment (a quick look for axis ranges).
+    segment (a quick look for axis ranges). takeoff_mass [kg] is needed where a propeller
+    diameter caps the takeoff thrust (the curves then belong to that mass; default
+    :func:`takeoff_mass_for`).
     """
     W_S = np.atleast_1d(np.asarray(W_S, dtype=float))
     tree = M.spec_tree(spec)
-    ac = M.aircraft(tree)
+    if takeoff_mass is None and M.needs_takeoff_mass(tree):
+        takeoff_mass = takeoff_mass_for(spec)
+    ac = M.aircraft(tree, takeoff_mass)
     seg = _segment_betas(tree, ac, W_S) if exact else {}
     return {rid: _sample(r, ac, W_S, seg) for rid, r in tree["requirements"].items()}
+
+
+def takeoff_mass_for(spec, result=None) -> float:
+    """Takeoff mass [kg] the curves are drawn at: the design's, else the best point of the solver's
+    starting scan (only needed where a propeller diameter makes the curves depend on the size)."""
+    if result is not None and result.feasible:
+        return float(result.design.takeoff_mass)
+    from ..problem import build
+
+    prob = build(spec)
+    return float(prob.start_point(prob.p0)[2] * prob.m_ref)
 
 
 def _boundary(W_S, lim):
@@ -167,7 +182,7 @@ def _nice_ceil(x):
     return math.ceil(x / step - 1e-9) * step
 
 
-def _ranges(spec, result, u):
+def _ranges(spec, result, u, takeoff_mass=None):
     """(x range [N/m^2], y range) around the design point, design_space first."""
     ds = spec.model.design_space
     box_x = tuple(float(v) for v in ds.wing_loading) if ds and ds.wing_loading else None
@@ -175,7 +190,7 @@ def _ranges(spec, result, u):
     box_y = tuple(float(v) for v in yb) if yb else None
     coarse = np.geomspace(max((box_x or (100.0,))[0], 1.0), (box_x or (0, 15000.0))[1], 120)
     env, bounds, minima = np.zeros_like(coarse), [], []
-    for t, lim in sample_requirements(spec, coarse, exact=False).values():
+    for t, lim in sample_requirements(spec, coarse, exact=False, takeoff_mass=takeoff_mass).values():
         if t is not None:
             env = np.maximum(env, np.where(np.isfinite(t), t, np.inf))
         b = _boundary(coarse, lim)
@@ -193,7 +208,7 @@ def _ranges(spec, result, u):
     x_hi = _nice_ceil(x_hi * u.x) / u.x
     x_range = box_x or (0.0, x_hi)
     look = np.linspace(max(x_range[0], x_range[1] / 60), x_range[1], 40)
-    for t, lim in sample_requirements(spec, look, exact=False).values():
+    for t, lim in sample_requirements(spec, look, exact=False, takeoff_mass=takeoff_mass).values():
         if t is not None and np.any(np.isfinite(t)):
             minima.append(float(np.nanmin(np.where(np.isfinite(t), t, np.nan))))
     y_hi = max(1.9 * Y0, 1.2 * max(minima, default=0.0), 1e-6)
@@ -217,12 +232,13 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
         from ..problem import solve
 
         result = solve(spec)
-    x_range, y_range = _ranges(spec, result, u)
+    mass = takeoff_mass_for(spec, result) if M.needs_takeoff_mass(M.spec_tree(spec)) else None
+    x_range, y_range = _ranges(spec, result, u, mass)
     x0 = x_range[0] if x_range[0] > 0 else x_range[1] / 200.0
     if samples is None:
         samples = 301
     W_S = np.linspace(x0, x_range[1], int(samples))
-    sampled = sample_requirements(spec, W_S)
+    sampled = sample_requirements(spec, W_S, takeoff_mass=mass)
     active = {r.id for r in result.requirements if r.active}
     curves = [Curve(rid, spec.requirement(rid).kind, i, rid in active, t, lim, _boundary(W_S, lim))
               for i, (rid, (t, lim)) in enumerate(sampled.items())]

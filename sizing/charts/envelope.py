@@ -20,6 +20,7 @@ from .. import constraints as C
 from ..common.caution import CAUTION
 from ..common.conversions import FPM, FT, KN
 from ..common.errors import InputError
+from ..physics.airspeed import as_kind
 from ..physics.atmosphere import H_MAX, isa
 from ..physics.propulsion import is_propeller
 from ..problem import tree as M
@@ -159,8 +160,14 @@ def nice_step(span, count=6):
 
 
 def _conditions(r, res_r):
+    """How a requirement is flown, as the solver flies it (engines out, the free-speed floor of
+    min_speed_factor x stall and, for a ceiling, buffet onset)."""
+    free = r["kind"] == "ceiling" or (r["kind"] == "climb" and not any(r.get(k) is not None
+                                                                        for k in ("mach", "speed", "cas", "eas")))
     return Conditions(float(res_r.beta), float(r.get("temperature_offset", 0.0)), r.get("thrust_lapse"),
-                      r.get("config") or _DEFAULT_CONFIG.get(r["kind"], "clean"), float(r.get("throttle", 1.0)))
+                      r.get("config") or _DEFAULT_CONFIG.get(r["kind"], "clean"), float(r.get("throttle", 1.0)),
+                      float(r.get("engines_out", 0.0)) if r["kind"] in ("ceiling", "climb") else 0.0,
+                      float(r.get("min_speed_factor", 1.2)) if free else 1.0, r["kind"] == "ceiling")
 
 
 def _conditions_text(c, r, propeller):
@@ -174,7 +181,7 @@ def _conditions_text(c, r, propeller):
 
 def _point_speed(r, req, ac, W_S, res_r, air):
     """True airspeed [m/s] at which a requirement is flown (or lifts off, touches down)."""
-    if r.get("mach") is not None or r.get("speed") is not None:
+    if any(r.get(k) is not None for k in C.SPEED_KEYS):
         return float(C.fixed_speed(req, air))
     if res_r.speed is not None:
         return float(res_r.speed)
@@ -230,7 +237,13 @@ def _evaluate(r, res_r, ac, W_S, Y, mach_top):
         value = math.sqrt(2.0 * cond.beta * W_S / (float(air.density) * ac.polar.CLmax(cond.config)))
         required, quantity, better, unit, by = V, "stall speed", -1, "m/s", "CLmax"
         over = {"mach": value / float(air.speed_of_sound)}
-        text = f"{value / KN:.1f} kn TAS ({cond.config}); {V / KN:.1f} kn limit"
+        kind = C.speed_key(req) or "speed"
+        shown = {"mach": ("M ", 1.0, ""), "speed": ("", KN, " kn TAS"), "cas": ("", KN, " kn CAS"),
+                 "eas": ("", KN, " kn EAS")}[kind]
+        own = float(as_kind(kind, value, air)) / shown[1]
+        limit = float(as_kind(kind, V, air)) / shown[1]
+        text = (f"{shown[0]}{own:.1f}{shown[2]} ({cond.config}); {shown[0]}{limit:.1f}{shown[2]} limit"
+                + (f" ({value / KN:.1f} kn TAS)" if kind in ("cas", "eas") else ""))
     if quantity:
         row = _row(f"{rid}: {quantity}", text, rid, over.get("altitude", h), over.get("mach", Mn), cond.beta,
                    over.get("value", value), required, unit, by)

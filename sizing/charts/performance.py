@@ -42,6 +42,9 @@ class Conditions:
     thrust_lapse: float | None = None
     config: str = "clean"
     throttle: float = 1.0
+    engines_out: float = 0.0           # inoperative engines: thrust of the others, their drag added
+    min_speed_factor: float = 1.0      # speeds at least this multiple of the stall speed
+    buffet: bool = False               # speeds where CL x buffet margin <= CL_buffet only
 
 
 def _state(Y, ac, altitude, mach, cond):
@@ -51,7 +54,9 @@ def _state(Y, ac, altitude, mach, cond):
     V = Mn * air.speed_of_sound
     req = SimpleNamespace(altitude=h, temperature_offset=cond.temperature_offset, thrust_lapse=cond.thrust_lapse)
     alpha = C.lapse(req, ac, V, air, cond.throttle)
-    T_W = ac.propeller_efficiency * alpha * Y / V if is_propeller(ac.engine_type) else alpha * Y
+    N = getattr(ac, "engines", 1.0)
+    running = (N - cond.engines_out) / N
+    T_W = (ac.propeller_efficiency * alpha * Y / V if is_propeller(ac.engine_type) else alpha * Y) * running
     return V, 0.5 * air.density * V ** 2, T_W
 
 
@@ -82,7 +87,12 @@ def specific_excess_power(W_S, Y, ac, altitude, mach, n=1.0, cond=Conditions()):
     """
     V, q, T_W = _state(Y, ac, altitude, mach, cond)
     CL = n * cond.beta * W_S / q
-    return V * (T_W - q * ac.polar.CD(CL, np.asarray(mach, dtype=float), cond.config) / W_S) / cond.beta
+    CD = ac.polar.CD(CL, np.asarray(mach, dtype=float), cond.config) + _engine_out_drag(ac, cond)
+    return V * (T_W - q * CD / W_S) / cond.beta
+
+
+def _engine_out_drag(ac, cond):
+    return cond.engines_out * getattr(ac, "engine_out_drag_increment", 0.0)
 
 
 def sustained_load_factor(W_S, Y, ac, altitude, mach, cond=Conditions(), Ps=0.0):
@@ -104,7 +114,7 @@ def sustained_load_factor(W_S, Y, ac, altitude, mach, cond=Conditions(), Ps=0.0)
     """
     Mn = np.asarray(mach, dtype=float)
     V, q, T_W = _state(Y, ac, altitude, Mn, cond)
-    c = (T_W - cond.beta * Ps / V) * W_S / q - ac.polar.CD0(Mn, cond.config)
+    c = (T_W - cond.beta * Ps / V) * W_S / q - ac.polar.CD0(Mn, cond.config) - _engine_out_drag(ac, cond)
     k1, k2 = ac.polar.K1(Mn), ac.polar.k2
     disc = k2 ** 2 + 4.0 * k1 * c
     CL = (-k2 + np.sqrt(np.where(disc >= 0, disc, np.nan))) / (2.0 * k1)
@@ -170,10 +180,20 @@ class Flight:
             return specific_excess_power(self.W_S, self.Y, self.ac, h, Mn, n, self.cond)
 
     def mach_lift(self, h, n=1.0):
-        """Lowest Mach with CL <= CLmax (config) when pulling n."""
+        """Lowest Mach with CL <= CLmax (config) when pulling n (times the conditions' min_speed_factor)."""
         air = isa(np.asarray(h, dtype=float), self.cond.temperature_offset)
         rho_CL = air.density * self.ac.polar.CLmax(self.cond.config)
-        return np.sqrt(2.0 * n * self.cond.beta * self.W_S / rho_CL) / air.speed_of_sound
+        return self.cond.min_speed_factor * np.sqrt(2.0 * n * self.cond.beta * self.W_S / rho_CL) / air.speed_of_sound
+
+    def buffet_free(self, h, Mn, n=1.0):
+        """True where CL x buffet margin <= CL_buffet(M) (always True unless the conditions ask)."""
+        if not self.cond.buffet or getattr(self.ac, "cl_buffet", None) is None:
+            return np.ones(np.broadcast_shapes(np.shape(h), np.shape(Mn)), dtype=bool)
+        air = isa(np.asarray(h, dtype=float), self.cond.temperature_offset)
+        Mn = np.asarray(Mn, dtype=float)
+        q = 0.5 * air.density * (Mn * air.speed_of_sound) ** 2
+        CLb = self.ac.cl_buffet(Mn) if callable(self.ac.cl_buffet) else self.ac.cl_buffet + 0.0 * Mn
+        return n * self.cond.beta * self.W_S / q * self.ac.buffet_margin <= CLb
 
     def mach_limit(self, h):
         """Highest Mach of a free speed (speed limit, polar table): the solver's bound."""
@@ -185,7 +205,12 @@ class Flight:
         "limit" (the solver's free-speed bound) or "domain" (the grid's top)."""
         h = np.asarray(h, dtype=float)
         hi = self.mach_limit(h) if top == "limit" else np.full_like(h, self.mach_top)
-        return maximise(lambda X: self.ps(h[..., None], X, n), self.mach_lift(h, n), hi)
+
+        def f(X):
+            ps = self.ps(h[..., None], X, n)
+            return np.where(self.buffet_free(h[..., None], X, n), ps, -np.inf) if self.cond.buffet else ps
+
+        return maximise(f, self.mach_lift(h, n), hi)
 
     def ceiling(self, target=0.0, n=1.0, top="limit", floor=0.0):
         """Highest altitude where max over Mach of Ps(n) >= target: (h [m], Mach), or None."""
