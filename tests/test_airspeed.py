@@ -125,7 +125,7 @@ def test_requirement_speeds_as_cas_and_eas_are_the_same_flight():
     from sizing.problem import solve
 
     masses = []
-    for speed in (f"cas: 280 kn", f"speed: {tas:.9f} m/s", f"eas: {eas:.9f} m/s"):
+    for speed in ("cas: 280 kn", f"speed: {tas:.9f} m/s", f"eas: {eas:.9f} m/s"):
         spec = load_text(BASE.format(reqs=f"  - {{id: cruise, kind: cruise, {speed}, altitude: 25000 ft}}\n"
                                           f"  - {{id: stall, kind: stall-speed, cas: 120 kn, config: landing}}"))
         res = solve(spec)

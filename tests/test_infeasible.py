@@ -281,10 +281,6 @@ def test_diagnose_raises_solver_error_without_evidence(monkeypatch):
 
 # ------------------------------------------------------------------ random sets
 
-FIELDS = {"stall-speed": "speed", "sustained-turn": "load_factor", "max-mach": "mach", "ceiling": "altitude",
-          "climb": "climb_rate", "excess-power": "excess_power", "cruise": "speed",
-          "instantaneous-turn": "load_factor", "takeoff": "ground_roll", "landing": "ground_roll",
-          "climb-gradient": "gradient"}
 RAW = {p.stem: yaml.safe_load(p.read_text()) for p in EXAMPLES}
 
 
@@ -295,7 +291,7 @@ def _scaled(v, f):
     return f"{float(num) * f:.6g} {unit}".strip()
 
 
-SMALLER_IS_HARDER = {"stall-speed", "takeoff", "landing", "instantaneous-turn"}
+SMALLER_IS_HARDER = {"stall-speed", "approach-speed", "takeoff", "landing", "instantaneous-turn"}
 
 
 def random_set(rnd, harder=False):
@@ -307,7 +303,7 @@ def random_set(rnd, harder=False):
     rnd.shuffle(reqs)
     del reqs[rnd.randint(1, len(reqs)):]
     for r in reqs:
-        field = "mach" if "mach" in r and r["kind"] in ("cruise", "max-mach") else FIELDS[r["kind"]]
+        field = M.value_field(r)        # the headline field as written (speed, cas, mach, a field form)
         if field in r and rnd.random() < 0.8:
             f = rnd.uniform(0.5, 2.0)
             if harder:
@@ -320,8 +316,8 @@ def random_set(rnd, harder=False):
 def assert_meets_everything(spec, res):
     """Re-evaluate every requirement at the design with the numpy curves (DEVELOPERS.md "Data flow", step 4)."""
     tree = M.spec_tree(spec)
-    ac = M.aircraft(tree)
     d = res.design
+    ac = M.aircraft(tree, d.takeoff_mass)
     W = np.array([d.wing_loading])
     Y = d.power_to_weight if res.propeller else d.thrust_to_weight
     for rr in res.requirements:

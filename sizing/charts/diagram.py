@@ -167,7 +167,7 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
             b = c.boundary * u.x
             alone = c.thrust is None        # a pure W/S limit; else the lift limit of a thrust kind
             h.limits[c.id] = ax.axvline(b, color=colour, lw=lw[c.active] if alone else 1.3,
-                                        ls="-" if alone else (0, (5, 2.5)), zorder=3 + c.active)
+                                        ls=ls if alone else (0, (5, 2.5)), zorder=3 + c.active)
             placer.add_line(c.id if alone else f"{c.id}:limit", np.full(50, b), np.linspace(yl, yh, 50))
             if hatch:
                 thin(ax.fill_betweenx([yl, yh], b, b + 0.016 * x_span, hatch="\\\\\\\\", **hatch_kw))
@@ -254,7 +254,7 @@ def _label_curves(ax, data, h, placer):
         colour, weight = curve_style(c.index)[0], "bold" if c.active else "normal"
         items = [(c.id, c.id, 0)] if c.thrust is not None else []
         if c.id in h.limits:
-            items.append((c.id, c.id, 90) if c.thrust is None else (f"{c.id}:limit", f"{c.id} CLmax", 90))
+            items.append((c.id, c.id, 90) if c.thrust is None else (f"{c.id}:limit", f"{c.id} {c.limit_name}", 90))
         for key, text, rot in items:
             w, hh = placer.size(text, FONT["label"], weight)
             spot = placer.along(key, *((hh, w) if rot else (w, hh)), prefer=0.82 if rot else 0.5,

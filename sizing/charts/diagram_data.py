@@ -42,6 +42,7 @@ class Curve:
     thrust: np.ndarray | None
     limit: np.ndarray | None
     boundary: float | None
+    limit_name: str = "CLmax"         # what sets the W/S limit of a thrust kind: CLmax or buffet
 
 
 @dataclass(frozen=True)
@@ -121,6 +122,19 @@ def takeoff_mass_for(spec, result=None) -> float:
 
     prob = build(spec)
     return float(prob.start_point(prob.p0)[2] * prob.m_ref)
+
+
+def _limit_name(tree, rid, mass):
+    """'buffet' where buffet onset, not CLmax, sets a cruise or max-speed requirement's W/S limit."""
+    ac = M.aircraft(tree, mass)
+    r = tree["requirements"][rid]
+    if r["kind"] not in ("cruise", "max-mach") or ac.cl_buffet is None:
+        return "CLmax"
+    req = M.requirement(r, ac)
+    air = C.condition(req)
+    V = C.fixed_speed(req, air)
+    lift = float(np.asarray(C.lift_limit(V, req, ac, air, 1.0, C.config_of(req))))
+    return "buffet" if float(np.asarray(C.buffet_limit(V, req, ac, air))) < lift else "CLmax"
 
 
 def _boundary(W_S, lim):
@@ -240,7 +254,9 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
     W_S = np.linspace(x0, x_range[1], int(samples))
     sampled = sample_requirements(spec, W_S, takeoff_mass=mass)
     active = {r.id for r in result.requirements if r.active}
-    curves = [Curve(rid, spec.requirement(rid).kind, i, rid in active, t, lim, _boundary(W_S, lim))
+    tree = M.spec_tree(spec)
+    curves = [Curve(rid, spec.requirement(rid).kind, i, rid in active, t, lim, _boundary(W_S, lim),
+                    _limit_name(tree, rid, mass))
               for i, (rid, (t, lim)) in enumerate(sampled.items())]
     mW = np.linspace(x0, x_range[1], grid[0])
     mY = np.linspace(y_range[0], y_range[1], grid[1])

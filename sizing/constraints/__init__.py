@@ -41,8 +41,15 @@ References
 """
 from __future__ import annotations
 
-from .climb import CLIMB_SEGMENTS, SEGMENT_KEYS, ceiling, climb, climb_gradient, engine_out_climb_thrust, \
-    segment_defaults
+from .climb import (
+    CLIMB_SEGMENTS,
+    SEGMENT_KEYS,
+    ceiling,
+    climb,
+    climb_gradient,
+    engine_out_climb_thrust,
+    segment_defaults,
+)
 from .field import (
     average_takeoff_thrust,
     balanced_field_length,
@@ -81,8 +88,8 @@ from .flight import (
 from .registry import (
     DEFAULT_MIN_SPEED_FACTOR,
     KINDS,
-    buffet_speed_range,
     Kind,
+    buffet_speed_range,
     evaluate,
     free_speed_range,
     max_free_speed,

@@ -23,7 +23,6 @@ References
 """
 from __future__ import annotations
 
-import math
 from types import SimpleNamespace
 
 import numpy as np

@@ -32,7 +32,7 @@ def flight_condition(obj, need_speed: bool):
     _within("altitude", obj.altitude, H_MIN, H_MAX,
             f"the standard atmosphere model ({H_MIN:g} m to {H_MAX:g} m)")
     _within("temperature_offset", obj.temperature_offset, -80.0, 60.0, "-80 K to +60 K")
-    mach, speed = getattr(obj, "mach", None), getattr(obj, "speed", None)
+    mach = getattr(obj, "mach", None)
     given = [k for k in SPEED_KEYS if getattr(obj, k, None) is not None]
     if len(given) > 1:
         raise FieldError(given[1], f"give one of mach, speed (true airspeed), cas (calibrated) or eas "

@@ -82,7 +82,6 @@ class RequirementFile(Strict):
                                            f"{'power' if prop else 'thrust'}-specific consumption such as "
                                            f"{example}, got {q.text}")
         names = [s.name for s in self.mission.segments if s.name] if self.mission else []
-        engines = self.aircraft.propulsion.engines
         for i, r in enumerate(self.requirements):
             if isinstance(r.weight_fraction, After) and r.weight_fraction.after not in names:
                 near = difflib.get_close_matches(r.weight_fraction.after, names, 1)
