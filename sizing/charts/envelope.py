@@ -88,6 +88,7 @@ class Envelope:
     coffin: CoffinCorner | None = None      # 1 g stall (or buffet) and Mach-limit edges, where they meet
     zoom: Zoom | None = None                 # largest energy height of the 1 g envelope
     energy: np.ndarray | None = None         # energy height h + V^2/(2 g0) [m] over the altitude x mach grid
+    speed_limit_text: str = "speed limit"
 
     def to_frame(self):
         """The envelope table as a pandas DataFrame, one row per quantity."""
@@ -299,13 +300,13 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
     ps = fl.ps(H, Mg)
     ps = np.where((Mg >= fl.mach_lift(H)) & (ps >= 0.0), ps, np.nan)
     air = isa(h_b)
-    lims = [np.full_like(h_b, ac.speed_limit_mach)] if ac.speed_limit_mach is not None else []
-    lims += [ac.speed_limit_speed / air.speed_of_sound] if ac.speed_limit_speed is not None else []
+    given = C.speed_limit(ac, air)      # VMO/MMO: the lower of the two at each altitude
+    lims = [np.asarray(given / air.speed_of_sound) + 0.0 * h_b] if given is not None else []
     table = float(ac.polar.mach_max) if math.isfinite(ac.polar.mach_max) else None
     if table is None:
         lims = lims or [C.max_free_speed(ac, air) / air.speed_of_sound]
         notes.append(f"the drag polar has no Mach table (no drag rise modelled); the grid stops at M {top:.2f}"
-                     + ("" if ac.speed_limit_mach or ac.speed_limit_speed else
+                     + ("" if given is not None else
                         "; no speed_limit given: free speeds stop at M 0.95 (the solver's default)"))
     rows = [_row(name, f"{_ft(c[0])} at M {c[1]:.3f}", "", c[0], c[1], B, c[0], None, "m") if c
             else _row(name, "not reached at any altitude", beta=B)
@@ -343,4 +344,13 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
                     turns=tuple(turns), stall=(fl.mach_lift(h_b), h_b), speed_limit=(np.minimum.reduce(lims), h_b)
                     if lims else None, table_limit=table, absolute_ceiling=abs_c, service_ceiling=svc_c,
                     points=tuple(points), rows=tuple(rows), notes=tuple(notes), coffin=cc, zoom=zoom,
-                    energy=energy_height(H, Mg * np.asarray(isa(H).speed_of_sound, dtype=float)))
+                    energy=energy_height(H, Mg * np.asarray(isa(H).speed_of_sound, dtype=float)),
+                    speed_limit_text=speed_limit_text(ac))
+
+
+def speed_limit_text(ac) -> str:
+    """'speed limit 340 kn CAS / M 0.88' (VMO/MMO), as the file gives it."""
+    parts = ([f"{ac.speed_limit_cas / KN:.0f} kn CAS"] if getattr(ac, "speed_limit_cas", None) is not None else []) \
+        + ([f"M {ac.speed_limit_mach:.2f}"] if ac.speed_limit_mach is not None else []) \
+        + ([f"{ac.speed_limit_speed / KN:.0f} kn TAS"] if ac.speed_limit_speed is not None else [])
+    return "speed limit " + " / ".join(parts) if parts else "speed limit"

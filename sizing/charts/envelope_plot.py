@@ -161,7 +161,7 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         (h["speed_limit"],) = ax.plot(lm, lh * kft, color="#555555", lw=1.2, ls="-.", zorder=4)
         ax.fill_betweenx(lh * kft, lm, np.maximum(lm, top), fc="none", ec="#c4c4c4", hatch="///", lw=0.0,
                          zorder=0.5)
-        style.append((h["speed_limit"], "speed limit (hatched beyond)"))
+        style.append((h["speed_limit"], env.speed_limit_text + " (hatched beyond)"))
     if env.table_limit is not None:
         h["table_limit"] = ax.axvline(env.table_limit, color="#777777", lw=0.8, zorder=4)
         style.append((h["table_limit"], f"end of the polar's Mach table (M {env.table_limit:g})"))
