@@ -75,6 +75,21 @@ def explorers():
     return {p.name: Explorer(p) for p in EXAMPLES}
 
 
+# the forms the examples leave out (requirement-document forms of issue 15)
+EXTRA_FORMS = """\
+title: forms range check concept
+aircraft:
+  aerodynamics: {cd0: 0.02, aspect_ratio: 9, cl_max: {clean: 1.4, takeoff: 1.9, landing: 2.3}, cl_buffet: 0.85,
+                 buffet_margin: 1.3}
+  propulsion: {type: turbofan-high-bypass, engines: 2}
+  speed_limit: {cas: 250 kn}
+  weights: {crew: 200 kg, payload: 1500 kg, fuel: {fraction: 0.25}, empty: {model: fraction, value: 0.55}}
+requirements:
+  - {id: app, kind: approach-speed, eas: 125 kn, factor: 1.3}
+  - {id: ceil, kind: ceiling, altitude: 25000 ft, min_speed_factor: 1.25}
+  - {id: fl, kind: landing, field_length: 2200 m, factor: 0.6, obstacle: 50 ft}
+  - {id: to, kind: takeoff, distance: 1500 m, obstacle: 35 ft}
+"""
 EXTRA_STATISTICAL = EXTRA.replace("empty: {model: fraction, value: 0.55}",
                                   "empty: {model: statistical, a: 1.59, c: -0.10, max_mach: 0.9,\n"
                                   "            wing_load_factor: {reference: 4, exponent: 0.5, wing_share: 0.2}}"
@@ -83,7 +98,8 @@ EXTRA_STATISTICAL = EXTRA.replace("empty: {model: fraction, value: 0.55}",
 
 def _specs():
     return [load(p) for p in EXAMPLES] + [load_text(EXTRA, "extra.yaml"),
-                                          load_text(EXTRA_STATISTICAL, "extra-statistical.yaml")]
+                                          load_text(EXTRA_STATISTICAL, "extra-statistical.yaml"),
+                                          load_text(EXTRA_FORMS, "extra-forms.yaml")]
 
 
 def _beside(rng, side, scale=1.0):
@@ -277,7 +293,7 @@ def test_changes_during_a_solve_are_coalesced(explorers):
     ex = explorers["touring-piston.yaml"]
     pools, got = _Pools(hold=True), []
     session = pools.session(ex, got)
-    key = "requirements.stall-61kt.speed"
+    key = "requirements.stall-61kt.cas"
     for v in (60, 59, 58, 57, 56):
         values = dict(ex.initial, **{key: float(v)})
         session.request(values, key)
@@ -286,7 +302,7 @@ def test_changes_during_a_solve_are_coalesced(explorers):
     assert kinds == ["numbers", "curves", "result"], kinds
     step = got[0][1]
     assert step.values[key] == 56.0                      # only the newest values were solved
-    fresh = solve(validate(set_value(ex.spec.data, ("requirements", 0, "speed"), "56 kn"), "x.yaml"))
+    fresh = solve(validate(set_value(ex.spec.data, ("requirements", 0, "cas"), "56 kn"), "x.yaml"))
     assert step.numbers.takeoff_mass == pytest.approx(fresh.design.takeoff_mass, rel=1e-6)
     assert got[2][1][1].design.takeoff_mass == pytest.approx(fresh.design.takeoff_mass, rel=1e-6)
 
@@ -312,7 +328,7 @@ def test_infeasible_values_keep_the_last_good_design_and_are_diagnosed(explorers
     ex = explorers["touring-piston.yaml"]
     pools, got = _Pools(), []
     session = pools.session(ex, got)
-    key = "requirements.stall-61kt.speed"
+    key = "requirements.stall-61kt.cas"
     session.request(dict(ex.initial, **{key: 35.0}), key)
     pools.finish()
     kinds = [k for k, _ in got]
@@ -325,7 +341,7 @@ def test_infeasible_values_keep_the_last_good_design_and_are_diagnosed(explorers
     # Source: the diagnosis' own contract (sizing/problem/diagnose.py): each relaxation alone restores feasibility
     rel = res.infeasibility.relaxations["stall-61kt"]
     assert not rel["together"]
-    fixed = validate(set_value(ex.spec.data, ("requirements", 0, "speed"), f"{rel['shown']} kn"), "x.yaml")
+    fixed = validate(set_value(ex.spec.data, ("requirements", 0, "cas"), f"{rel['shown']} kn"), "x.yaml")
     assert solve(fixed).feasible
 
 
@@ -338,7 +354,7 @@ def test_a_solver_failure_is_said_and_the_last_good_design_kept(explorers, monke
         raise SolverError("IPOPT stopped: Maximum_Iterations_Exceeded (test double)")
 
     monkeypatch.setattr(ex, "complete", fails)
-    key = "requirements.stall-61kt.speed"
+    key = "requirements.stall-61kt.cas"
     session.request(dict(ex.initial, **{key: 35.0}), key)        # no verified design, and no diagnosis
     pools.finish()
     kinds = [k for k, _ in got]
@@ -351,7 +367,7 @@ def test_a_change_the_file_format_refuses_is_refused_at_its_control(explorers):
     ex = explorers["regional-turboprop.yaml"]
     pools, got = _Pools(), []
     session = pools.session(ex, got)
-    key = "requirements.second-segment.engines_out"
+    key = "requirements.ceiling-oei.engines_out"
     assert ex.refusal(key, 2) is None                 # in range for the key alone...
     session.request(dict(ex.initial, **{key: 2.0}), key)
     pools.finish()

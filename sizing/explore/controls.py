@@ -62,10 +62,23 @@ RANGES = {
     ("climb_rate",): _r(0.0, 500.0),
     ("excess_power",): _r(0.0, 500.0),
     ("speed",): _r(0.0, 1700.0, lo_open=True),
+    ("cas",): _r(0.0, 340.0, lo_open=True),
+    ("eas",): _r(0.0, 1700.0, lo_open=True),
+    ("speed_limit", "cas"): _r(0.0, 340.0, lo_open=True),
     ("mach",): _r(0.0, 5.0, lo_open=True),
     ("load_factor",): _r(0.0, 15.0, lo_open=True),
     ("throttle",): _r(0.0, 1.0, lo_open=True),
     ("ground_roll",): _r(0.0, 1.0e5, lo_open=True),
+    ("distance",): _r(0.0, 1.0e5, lo_open=True),
+    ("balanced_field",): _r(0.0, 1.0e5, lo_open=True),
+    ("field_length",): _r(0.0, 1.0e5, lo_open=True),
+    ("obstacle",): _r(0.0, 100.0),
+    ("rotation_time",): _r(0.0, 10.0),
+    ("approach_angle",): _r(0.017, 0.14),
+    # landing: distance / field length 0.3-1; approach-speed: multiple of the stall speed 1-2
+    # (the key is the same; validating the changed file refines it per kind)
+    ("factor",): _r(0.3, 2.0),
+    ("min_speed_factor",): _r(1.0, 2.0),
     ("rolling_friction",): _r(0.0, 0.3),
     ("liftoff_speed_ratio",): _r(1.0, 1.5),
     ("ground_lift_coefficient",): _r(0.0, 4.5),
@@ -85,6 +98,14 @@ RANGES = {
     ("cl_max", "landing"): _r(0.2, 4.5),
     ("takeoff_drag_increment",): _r(0.0, 0.3),
     ("landing_drag_increment",): _r(0.0, 0.3),
+    ("gear_drag_increment",): _r(0.0, 0.3),
+    ("engine_out_drag_increment",): _r(0.0, 0.3),
+    ("cl_buffet",): _r(0.0, 3.0, lo_open=True),
+    ("buffet_margin",): _r(1.0, 2.5),
+    ("takeoff_propeller_efficiency",): _r(0.2, 0.95),
+    ("propeller_diameter",): _r(0.3, 8.0),
+    ("bypass_ratio",): _r(0.0, 20.0),
+    ("max_landing_fraction",): _r(0.3, 1.0),
     ("engines",): _r(1.0, 8.0),
     ("throttle_ratio",): _r(0.9, 1.3),
     ("propeller_efficiency",): _r(0.2, 0.95),
@@ -116,6 +137,7 @@ RANGES = {
     ("wing_load_factor", "wing_share"): _r(0.0, 1.0, lo_open=True, hi_open=True),
 }
 INTEGER_KEYS = {"engines", "engines_out"}
+TABLES = ("cd0", "k1", "cl_buffet")        # coefficients that may be Mach tables
 
 # half-width of a slider around a value of zero [SI] (a slider spans the value +-50 % otherwise)
 _ZERO_SPAN = {"altitude": 3000.0, "temperature_offset": 20.0, "climb_rate": 5.0, "excess_power": 20.0,
@@ -348,8 +370,8 @@ def controls_of(spec, paths) -> list:
                                           if k in spec.data}):
         tree_path = tuple(spec.data["requirements"][k]["id"] if (i == 1 and raw_path[0] == "requirements") else k
                           for i, k in enumerate(raw_path))
-        table = (len(raw_path) >= 3 and isinstance(raw_path[-1], int) and raw_path[-2] in ("cd0", "k1")
-                 and raw_path[-3] in ("cd0", "k1"))
+        table = (len(raw_path) >= 3 and isinstance(raw_path[-1], int) and raw_path[-2] in TABLES
+                 and raw_path[-3] in TABLES)
         if tree_path not in index and not table:
             continue        # structure (breakpoints, ids) or not a parameter
         q = _model_at(spec.model, raw_path)

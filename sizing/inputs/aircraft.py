@@ -178,7 +178,7 @@ class Aerodynamics(Strict):
     @model_validator(mode="after")
     def _buffet(self):
         if isinstance(self.cl_buffet, float):
-            _within("cl_buffet", self.cl_buffet, 0.1, 3.0)
+            _positive("cl_buffet", self.cl_buffet, 3.0)
         if self.buffet_margin is not None:
             if self.cl_buffet is None:
                 raise FieldError("buffet_margin", "buffet_margin needs cl_buffet (the buffet-onset lift "

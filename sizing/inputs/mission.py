@@ -42,8 +42,9 @@ def flight_condition(obj, need_speed: bool):
                                  "(equivalent airspeed)")
     if mach is not None and not (0.0 < mach <= 5.0):
         raise FieldError("mach", f"mach {mach:g} must lie in (0, 5]")
-    for key in ("speed", "cas", "eas"):
+    for key in ("speed", "eas"):
         _positive(key, getattr(obj, key, None), 1700.0)
+    _positive("cas", getattr(obj, "cas", None), 340.0)        # above a0 a CAS is supersonic at sea level
     cas = getattr(obj, "cas", None)
     if cas is not None and H_MIN <= obj.altitude.si <= H_MAX and -80.0 <= obj.temperature_offset.si <= 60.0:
         from ..physics.airspeed import cas_to_mach
