@@ -21,7 +21,8 @@ R0 = 6356766.0       # m, the 1976 standard's Earth radius for geopotential alti
 def test_cas_to_tas_against_an_independent_implementation(cas_kn, alt_ft, dT):
     # Source: the general-purpose `aerocalc3` package (airspeed.cas2tas / tas2cas, its own
     # standard atmosphere and pitot relations), pressure altitude in ft, temperature in deg C.
-    # Its constants differ from the 1976 values in the 7th digit: tolerance 1e-6.
+    # Its constants differ from the 1976 values in the 7th digit: tolerance 1e-6 (docs/references.md
+    # check 2.9-a).
     ac = pytest.importorskip("aerocalc3.airspeed")
     air = isa(alt_ft * FT, dT)
     t_c = float(air.temperature) - 273.15
@@ -34,7 +35,7 @@ def test_cas_to_tas_against_an_independent_implementation(cas_kn, alt_ft, dT):
 
 
 def test_eas_against_an_independent_implementation():
-    # Source: `aerocalc3` airspeed.eas2tas (EAS = TAS sqrt(sigma)), standard day
+    # Source: `aerocalc3` airspeed.eas2tas (EAS = TAS sqrt(sigma)), standard day (check 2.9-a)
     ac = pytest.importorskip("aerocalc3.airspeed")
     for eas_kn, alt_ft in [(250, 10000), (180, 20000), (300, 30000)]:
         ref = ac.eas2tas(eas_kn, alt_ft, speed_units="kt", alt_units="ft")
@@ -44,7 +45,8 @@ def test_eas_against_an_independent_implementation():
 def test_cas_against_ambiance_and_the_isentropic_relations():
     # Source: the static pressure and speed of sound of the `ambiance` package (by geometric
     # altitude) with the isentropic pitot relation written out here (Anderson, Introduction to
-    # Flight, §4.12): p_t/p = (1 + 0.2 M^2)^3.5, CAS from the same impact pressure at p0, a0.
+    # Flight, §4.12): p_t/p = (1 + 0.2 M^2)^3.5, CAS from the same impact pressure at p0, a0
+    # (docs/references.md check 2.9-b).
     ambiance = pytest.importorskip("ambiance")
     H = np.array([0.0, 1500.0, 6000.0, 11000.0, 14000.0])
     ref = ambiance.Atmosphere(R0 * H / (R0 - H))
@@ -56,7 +58,8 @@ def test_cas_against_ambiance_and_the_isentropic_relations():
 
 
 def test_sea_level_standard_day_identities():
-    # Source: definitions (CAS equals TAS and EAS at sea level on a standard day; Anderson §4.12)
+    # Source: definitions (CAS equals TAS and EAS at sea level on a standard day; Anderson §4.12;
+    # docs/references.md check 2.9-c)
     air = isa(0.0)
     V = np.array([30.0, 100.0, 250.0])
     np.testing.assert_allclose(A.cas_to_tas(V, air), V, rtol=1e-12)
@@ -88,7 +91,7 @@ def test_one_expression_on_floats_arrays_and_symbols():
 
 def test_vmo_mmo_is_the_lower_of_the_two_at_each_altitude():
     # Source: 14 CFR 25.1505 (VMO/MMO: the maximum operating limit speed, in CAS or Mach);
-    # crossover computed here: 340 kn CAS equals M 0.88 where the pitot relation says so
+    # crossover computed here: 340 kn CAS equals M 0.88 where the pitot relation says so (check 2.9-d)
     ac = type("ac", (), {"speed_limit_mach": 0.88, "speed_limit_cas": 340 * KN, "speed_limit_speed": None})()
     H = np.linspace(0.0, 14000.0, 141)
     air = isa(H)

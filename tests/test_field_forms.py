@@ -48,7 +48,7 @@ def req(kind, ac, **fields):
 
 def test_ground_roll_closed_form_against_the_equation_of_motion():
     # Source: Raymer §17.8 ground roll, Eqs. 17.101-17.104 (from memory): dV/dt = g (K_T + K_A V^2)
-    # integrated here numerically, S = int V dV / (g (K_T + K_A V^2)) from 0 to V_LOF
+    # integrated here numerically, S = int V dV / (g (K_T + K_A V^2)) from 0 to V_LOF (check 7.7-a)
     for K_T, K_A, V in [(0.25, -3e-5, 70.0), (0.12, -8e-6, 55.0), (0.3, 2e-6, 40.0), (0.2, 0.0, 60.0)]:
         ref, _ = quad(lambda v: v / (g0 * (K_T + K_A * v ** 2)), 0.0, V, epsabs=1e-10, epsrel=1e-12)
         assert float(C.ground_roll_distance(V, K_T, K_A)) == pytest.approx(ref, rel=1e-9)
@@ -57,7 +57,7 @@ def test_ground_roll_closed_form_against_the_equation_of_motion():
 def test_transition_and_climb_to_the_obstacle():
     # Source: Raymer §17.8, Eqs. 17.106-17.111 (from memory), written out here: the arc of
     # radius R to the climb angle, h_TR = R (1 - cos g), S_TR = R sin g, S_C = (h - h_TR)/tan g;
-    # when h_TR > h the arc alone: S_TR = sqrt(R^2 - (R - h)^2)
+    # when h_TR > h the arc alone: S_TR = sqrt(R^2 - (R - h)^2) (docs/references.md check 7.7-b)
     h = 50 * FT
     for gam, R in [(math.radians(4.0), 2500.0), (math.radians(9.0), 1800.0), (math.radians(2.0), 900.0)]:
         h_TR = R * (1 - math.cos(gam))
@@ -77,7 +77,7 @@ def test_transition_and_climb_to_the_obstacle():
 def test_takeoff_distance_is_the_sum_of_the_four_segments():
     # Source: Raymer §17.8 (from memory for the constants): V_LOF = 1.1 V_s, thrust at
     # V_LOF/sqrt(2), 3 s rotation, transition at 1.15 V_s with n = 1.2, 50 ft obstacle;
-    # assembled here from the equations, each piece computed independently
+    # assembled here from the equations, each piece computed independently (check 7.7-c)
     ac = aircraft()
     r = req("takeoff", ac, distance=1500.0, rolling_friction=0.04, liftoff_speed_ratio=1.1,
             ground_lift_coefficient=0.5, rotation_time=3.0)
@@ -122,7 +122,7 @@ def bfl_english(W_S_psf, rho_slug, CL_climb, h_ft, T_W, U, G, sigma, g=32.174):
                                                      (2000, 100.0, 0.35, 0.05)])
 def test_balanced_field_length_against_the_english_unit_form(alt_ft, W_S_psf, T_W, G):
     # Source: Raymer Eq. 17.113 (Torenbeek's approximation, English units; from memory) with
-    # exact unit conversions (docs/references.md, unit conversions)
+    # exact unit conversions (docs/references.md §16; check 7.8-a)
     air = isa(alt_ft * FT)
     rho, sigma = float(air.density), float(air.sigma)
     CL, h, U = 2.1 / 1.44, 35.0, 0.01 * 2.1 + 0.02
@@ -138,7 +138,7 @@ def test_balanced_field_length_against_the_english_unit_form(alt_ft, W_S_psf, T_
 def test_balanced_field_kind_assembles_the_approximation():
     # Source: Raymer §17.8 (from memory): CL_climb at 1.2 V_s, G = gamma_climb - gamma_min one
     # engine out (gamma_min 0.024 for twins, after 14 CFR 25.121(b)), U = 0.01 CLmax,TO + 0.02,
-    # jets T_av = 0.75 T_static (5 + BPR)/(4 + BPR) (Eq. 17.114); assembled here
+    # jets T_av = 0.75 T_static (5 + BPR)/(4 + BPR) (Eq. 17.114); assembled here (check 7.8-b)
     ac = aircraft(bypass_ratio=5.0, engine_out_drag_increment=0.003)
     r = req("takeoff", ac, balanced_field=1800.0, obstacle=35 * FT, liftoff_speed_ratio=1.1)
     W_S, Y, rho = 5000.0, 0.3, float(isa(0.0).density)
@@ -152,7 +152,7 @@ def test_balanced_field_kind_assembles_the_approximation():
 
 def test_propeller_average_thrust_in_si_equals_the_english_form():
     # Source: Raymer Eq. 17.115 (from memory): T_av = 5.75 bhp (sigma N_e D^2 / bhp)^(1/3), lbf,
-    # hp, ft; here 2 x 1 000 hp, 12 ft propellers, 5 000 ft (sigma from the 1976 standard)
+    # hp, ft; here 2 x 1 000 hp, 12 ft propellers, 5 000 ft (sigma from the 1976 standard; check 7.8-c)
     ac = aircraft("turboprop", propeller_diameter=12 * FT, takeoff_mass=10000.0)
     r = req("takeoff", ac, balanced_field=1500.0, altitude=5000 * FT, liftoff_speed_ratio=1.1)
     air = isa(5000 * FT)
@@ -169,7 +169,7 @@ def test_propeller_average_thrust_in_si_equals_the_english_form():
 def test_landing_distance_pieces_and_the_field_factor():
     # Source: Raymer §17.9 (from memory): approach at 3 deg from 50 ft, flare at 1.23 V_s with
     # n = 1.2, free roll 3 s at 1.15 V_s, braking mu 0.4 (constant deceleration); field length =
-    # landing distance / 0.6 (14 CFR 121.195(b))
+    # landing distance / 0.6 (14 CFR 121.195(b)); docs/references.md checks 7.9-a, 7.9-b
     ac = aircraft()
     W_S, rho = 4000.0, float(isa(0.0).density)
     r = req("landing", ac, distance=1000.0, braking_friction=0.4, touchdown_speed_ratio=1.15, free_roll_time=3.0)
@@ -195,7 +195,7 @@ def test_landing_distance_pieces_and_the_field_factor():
 
 def test_approach_speed_limit():
     # Source: lift equation with V_app = 1.3 V_s,L (Raymer §17.9) and the definition of EAS
-    # (rho V^2 = rho0 V_e^2): approach at 130 kn EAS at 5 000 ft, weight fraction 0.85
+    # (rho V^2 = rho0 V_e^2): approach at 130 kn EAS at 5 000 ft, weight fraction 0.85 (check 7.10-a)
     ac = aircraft()
     r = M.requirement({"id": "a", "kind": "approach-speed", "eas": 130 * KN, "factor": 1.3,
                        "altitude": 5000 * FT, "weight_fraction": 0.85}, ac)
@@ -206,7 +206,7 @@ def test_approach_speed_limit():
 # ---------------------------------------------------------------- climb segments, engines out
 
 def test_climb_segment_table_is_the_regulation():
-    # Source: 14 CFR 25.121(a)-(d) and 25.119 (docs/references.md, regulations; REFERENCES CC3):
+    # Source: 14 CFR 25.121(a)-(d) and 25.119 (docs/references.md §8.2, §8.3; check 8.6-a):
     # one engine out, 2/3/4 engines: first > 0 / 0.3 / 0.5 %, second 2.4 / 2.7 / 3.0 %, final
     # 1.2 / 1.5 / 1.7 %, approach 2.1 / 2.4 / 2.7 %; landing climb, all engines, 3.2 %
     table = {"first": (0.0, 0.003, 0.005), "second": (0.024, 0.027, 0.030), "final": (0.012, 0.015, 0.017),
@@ -218,7 +218,8 @@ def test_climb_segment_table_is_the_regulation():
             assert d["engines_out"] == (0.0 if seg == "landing" else 1.0)
     assert C.segment_defaults("first", 2)["gear"] == "down" and C.segment_defaults("second", 2)["gear"] == "up"
     assert C.segment_defaults("landing", 3)["config"] == "landing" and C.segment_defaults("final", 2)["config"] == "clean"
-    # Source: 14 CFR 25.107(b)(1) V2 >= 1.13 V_SR; 25.107(g) V_FTO >= 1.18 V_SR; 25.125(b)(2)(i) V_REF >= 1.23 V_SR0
+    # from memory: 14 CFR 25.107(b)(1) V2 >= 1.13 V_SR; 25.107(g) V_FTO >= 1.18 V_SR; 25.125(b)(2)(i)
+    # V_REF >= 1.23 V_SR0 (docs/references.md §9, §8.6)
     assert [C.segment_defaults(s, 2)["speed_ratio"] for s in ("second", "final", "landing")] == [1.13, 1.18, 1.23]
     assert C.CLIMB_SEGMENTS["second"]["paragraph"] == "14 CFR 25.121(b)"
     with pytest.raises(ValueError, match="2, 3 or 4 engines"):
@@ -240,7 +241,7 @@ def test_segment_requirement_fills_its_keys_and_prints_the_paragraph():
 
 
 def test_engines_out_on_a_ceiling():
-    # Hand calculation (Mattingly Eq. 2.11): one of two engines out halves the thrust
+    # Hand calculation (Mattingly Eq. 2.11; docs/references.md check 8.7-a): one of two engines out halves the thrust
     # available and adds the inoperative engine's drag; T_SL/W_TO = (N/(N-1)) (beta/alpha)
     # (q/(beta W/S)) (CD0 + dCD + k1 CL^2) + Ps/V
     ac = aircraft(engine_out_drag_increment=0.004)
@@ -258,7 +259,7 @@ def test_engines_out_on_a_ceiling():
 def test_free_speeds_stay_above_the_min_speed_factor():
     # Source: common practice (free speeds at least 1.2 V_s, the usual minimum climb and
     # manoeuvre speed margin; docs/file-format.md says why): the best ceiling speed found never
-    # lies below 1.2 V_s, and a lower factor can only lower the thrust needed
+    # lies below 1.2 V_s, and a lower factor can only lower the thrust needed (check 5.8-a)
     ac = aircraft()
     W = np.array([2000.0, 4000.0, 6000.0])
     air = isa(9000.0)
@@ -271,6 +272,7 @@ def test_free_speeds_stay_above_the_min_speed_factor():
 
 def test_buffet_margin_limits_cruise_wing_loading():
     # Hand calculation: CL x 1.3 <= CL_buffet at the cruise condition -> W/S <= q CL_b/(1.3 beta)
+    # (docs/references.md check 5.8-b)
     ac = aircraft(cl_buffet=0.8, buffet_margin=1.3)
     r = req("cruise", ac, mach=0.78, altitude=11000.0, throttle=1.0, weight_fraction=0.95)
     air = isa(11000.0)
@@ -280,7 +282,7 @@ def test_buffet_margin_limits_cruise_wing_loading():
 
 def test_buffet_band_of_a_ceiling_closes_at_high_mach():
     # common practice, no source: with CL_buffet falling with Mach, the buffet-free speeds of a
-    # heavy wing at altitude are a band (low- and high-speed buffet), checked point by point
+    # heavy wing at altitude are a band (low- and high-speed buffet), checked point by point (check 5.8-c)
     from sizing.physics.aero import MachTable
 
     ac = aircraft(cl_buffet=MachTable((0.0, 0.7, 0.8, 0.85, 0.9), (1.0, 0.9, 0.78, 0.6, 0.3)), buffet_margin=1.3)
@@ -299,7 +301,7 @@ def test_buffet_band_of_a_ceiling_closes_at_high_mach():
 def test_momentum_theory_cap_on_propeller_thrust():
     # Source: docs/references.md (propellers): ideal static thrust (2 rho A P^2)^(1/3), 150 kW,
     # 1.9 m, sea level -> 5 386.6 N; at speed, the actuator-disk thrust from the closed-form
-    # cubic equals a bisection on P = T (V + v), T = 2 rho A v (V + v)
+    # cubic equals a bisection on P = T (V + v), T = 2 rho A v (V + v) (checks 15.4-b, 15.5-a)
     A_disk = math.pi * 1.9 ** 2 / 4
     assert float(propeller_static_thrust(150e3, 1.225, A_disk)) == pytest.approx(5386.6, abs=0.05)
     ac = aircraft("piston", engines=1.0, propeller_diameter=1.9, takeoff_mass=1200.0, propeller_efficiency=0.99)
@@ -316,9 +318,9 @@ def test_momentum_theory_cap_on_propeller_thrust():
 
 
 def test_the_touring_single_takes_off_within_its_propeller():
-    # common practice, no source (the gap issue 15 names): with a 1.9 m propeller, the thrust the
-    # takeoff requirement counts on at V_LOF/sqrt(2) stays below the ideal static thrust of its
-    # power; without a diameter it is eta_p P/V, above that ideal for this design
+    # common practice, no source (check 15.5-b): with a 1.9 m propeller, the thrust the takeoff
+    # requirement counts on at V_LOF/sqrt(2) is the actuator disk's at that speed (below the ideal
+    # static thrust of its power); the cruise efficiency's eta_p P/V (7.47 kN here) lies above it
     from pathlib import Path
 
     src = (Path(__file__).resolve().parents[1] / "requirements" / "touring-piston.yaml").read_text()
@@ -335,9 +337,11 @@ def test_the_touring_single_takes_off_within_its_propeller():
     alpha = float(C.lapse(r, ac, V_avg, air))
     T = float(C.thrust_available(d.power_to_weight, V_avg, alpha, ac, air=air, field=True)) * d.takeoff_mass * g0
     P = d.power * alpha
-    ideal = float(propeller_static_thrust(P, float(air.density), math.pi * ac.propeller_diameter ** 2 / 4))
-    assert T < ideal
-    assert ac.propeller_efficiency * P / V_avg > ideal
+    A_disk = math.pi * ac.propeller_diameter ** 2 / 4
+    at_speed = float(actuator_disk_thrust(P, V_avg, float(air.density), A_disk))
+    assert T == pytest.approx(at_speed, rel=1e-9)
+    assert T < float(propeller_static_thrust(P, float(air.density), A_disk))
+    assert ac.propeller_efficiency * P / V_avg > 1.3 * at_speed
 
 
 # ---------------------------------------------------------------- inputs: contradictions

@@ -64,7 +64,7 @@ def segment_defaults(segment, engines):
 
     Examples
     --------
-    Source: 14 CFR 25.121(b) (REFERENCES.md §2.3, CC3): second segment, twin -> 2.4 %.
+    Source: 14 CFR 25.121(b) (docs/references.md check 8.5-a): second segment, twin -> 2.4 %.
 
     >>> segment_defaults("second", 2)["gradient"]
     0.024

@@ -214,7 +214,7 @@ def propeller_static_thrust(power, density, disk_area):
 
     Examples
     --------
-    Source: REFERENCES.md §6 (momentum theory, computed there): P = 150 kW,
+    Source: momentum theory (docs/references.md check 15.4-b): P = 150 kW,
     D = 1.9 m, sea level -> 5 386.6 N.
 
     >>> import math
