@@ -310,7 +310,9 @@ def test_momentum_theory_cap_on_propeller_thrust():
     for V in (5.0, 20.0, 40.0):
         Y = 150e3 / W
         T = float(C.thrust_available(Y, V, 1.0, ac, air=air, field=True)) * W
-        assert T == pytest.approx(float(actuator_disk_thrust(150e3, V, float(air.density), A_disk)), rel=1e-9)
+        # the two bounds are blended smoothly where they cross (at most 1 %, shim.smooth_max): here
+        # they differ by 20 % or more, so the blend moves the thrust by less than 1e-3
+        assert T == pytest.approx(float(actuator_disk_thrust(150e3, V, float(air.density), A_disk)), rel=1e-3)
         assert T <= 0.99 * 150e3 / V        # eta_p P / V is the other bound, inactive here
     # the cap reaches the static value as V -> 0
     T0 = float(C.thrust_available(150e3 / W, 1e-6, 1.0, ac, air=air, field=True)) * W
@@ -339,7 +341,7 @@ def test_the_touring_single_takes_off_within_its_propeller():
     P = d.power * alpha
     A_disk = math.pi * ac.propeller_diameter ** 2 / 4
     at_speed = float(actuator_disk_thrust(P, V_avg, float(air.density), A_disk))
-    assert T == pytest.approx(at_speed, rel=1e-9)
+    assert T == pytest.approx(at_speed, rel=1e-3)       # the smooth blend of the two bounds
     assert T < float(propeller_static_thrust(P, float(air.density), A_disk))
     assert ac.propeller_efficiency * P / V_avg > 1.3 * at_speed
 

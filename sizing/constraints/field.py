@@ -135,6 +135,7 @@ def transition_climb_distance(sin_gamma, R, h_obstacle):
     Hand calculation: gamma 5 deg, R 2 000 m, 15.24 m obstacle: h_TR = 7.610 m;
     S = 15.24/tan 5 deg + 2 000 tan 2.5 deg = 174.19 + 87.33 = 261.52 m.
 
+    >>> import math
     >>> round(float(transition_climb_distance(math.sin(math.radians(5)), 2000.0, 15.24)), 2)
     261.52
     """
@@ -225,6 +226,7 @@ def landing_air_distance(V_stall, h_obstacle, gamma, k_flare=FLARE_SPEED_RATIO):
     Hand calculation: V_stall 60 m/s, 50 ft, 3 deg: V_F 73.8 m/s, R 2 777.2 m, h_F 3.81 m;
     15.24/tan 3 deg + 2 777.2 tan 1.5 deg = 290.79 + 72.72 = 363.51 m.
 
+    >>> import math
     >>> round(float(landing_air_distance(60.0, 15.24, math.radians(3.0))), 2)
     363.51
     """
@@ -251,6 +253,7 @@ def landing_distance_wing_loading(S, rho, CLmax, mu_brake, beta, k_TD, t_free, h
     50 ft, 3 deg: a = 0.020199 + 0.168572 = 0.188771, b = 3.45, c = 290.797 ->
     V_s = 52.833 m/s (the bound form gives 61.42 m/s), W/S = 1.225 x 2.4 x 52.833^2 / 2 = 4 103.3 N/m^2.
 
+    >>> import math
     >>> round(float(landing_distance_wing_loading(1000.0, 1.225, 2.4, 0.4, 1.0, 1.15, 3.0, 15.24,
     ...                                         math.radians(3.0))), 1)
     4103.3

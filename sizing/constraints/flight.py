@@ -200,14 +200,16 @@ def to_sea_level(t, V, alpha, ac, running=1.0, air=None, field=False):
     eta_p is the takeoff efficiency when given, and with a propeller diameter the power is at
     least the ideal actuator-disk power of the running propellers,
     P >= (T/2)(V + sqrt(V^2 + 2 T/(rho A))), T = t W_TO (momentum theory,
-    :func:`sizing.physics.propulsion.actuator_disk_power`); this needs ``ac.takeoff_mass``.
+    :func:`sizing.physics.propulsion.actuator_disk_power`); this needs ``ac.takeoff_mass``. The
+    two bounds are blended by :func:`~sizing.physics.shim.smooth_max` (at most 1 % above the
+    larger where they cross), so the optimizer meets no corner.
     """
     if is_propeller(ac.engine_type):
         P = t * V / propeller_efficiency(ac, field)
         A = disk_area(ac, running) if field else None
         if A is not None:
             W = ac.takeoff_mass * g0
-            P = m.fmax(P, actuator_disk_power(t * W, V, air.density, A) / W)
+            P = m.smooth_max(P, actuator_disk_power(t * W, V, air.density, A) / W)
         return P / (alpha * running)
     return t / (alpha * running)
 
@@ -230,7 +232,7 @@ def thrust_available(Y, V, alpha, ac, running=1.0, air=None, field=False):
     s = m.sqrt(c ** 2 / 4.0 + c * V ** 3 / 27.0)
     small = (V ** 6 / 729.0) / (h + s)             # h - s without cancellation
     u = V / 3.0 + m.power(h + s, 1.0 / 3.0) + m.power(small, 1.0 / 3.0)
-    return P / m.fmax(V / eta, u)
+    return P / m.smooth_max(V / eta, u)
 
 
 def flight_thrust(W_S, V, req, ac, air, n=1.0, Ps=0.0, config="clean", throttle=1.0):
