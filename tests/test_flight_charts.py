@@ -8,6 +8,7 @@ equations, Raymer Ch. 3) and the `ambiance` ICAO atmosphere, the solve itself (a
 boundary at the design point), and energy height h + V^2/(2 g) by hand.
 """
 import math
+from types import SimpleNamespace
 
 import ambiance
 import numpy as np
@@ -116,6 +117,28 @@ def test_energy_height():
     assert float(energy_height(10000.0, 250.0)) == pytest.approx(10000 + 250 ** 2 / (2 * G0), rel=1e-12)
 
 
+def _low_edge_mach(spec, W_S, a):
+    """1 g low-speed edge [Mach] at ambiance state a: the stall (lift equation), or where the file
+    gives cl_buffet, buffet onset: 0.7 p M^2 CL_b(M) = W/S, CL_b by scipy's PCHIP of the file's
+    table (independent of the package's interpolant), the lowest root by brentq."""
+
+    ac = M.aircraft(M.spec_tree(spec))
+    aero = spec.data["aircraft"]["aerodynamics"]
+    if "cl_buffet" not in aero:
+        return math.sqrt(2 * W_S / (float(a.density[0]) * ac.polar.CLmax("clean"))) / float(a.speed_of_sound[0])
+    tab = aero["cl_buffet"]
+    clb = (PchipInterpolator(tab["mach"], tab["cl_buffet"], extrapolate=False) if isinstance(tab, dict)
+           else (lambda x: tab))
+    top = tab["mach"][-1] if isinstance(tab, dict) else 1.0
+
+    def f(Mx):
+        c = float(clb(min(Mx, top)))
+        return 0.7 * float(a.pressure[0]) * Mx ** 2 * c - W_S
+    grid = np.linspace(0.02, top, 400)
+    k = next((i for i, Mx in enumerate(grid) if f(Mx) >= 0), None)
+    return 2.0 * top if k is None else brentq(f, grid[k - 1], grid[k])     # none: no buffet-free speed
+
+
 @pytest.mark.parametrize("name", ["long-range-jet.yaml", "touring-piston.yaml"])
 def test_coffin_corner_and_zoom(solved, name):
     spec, res = solved[name]
@@ -123,19 +146,20 @@ def test_coffin_corner_and_zoom(solved, name):
     ac = M.aircraft(M.spec_tree(spec))
     W_S, _ = design(res)
     cc = env.coffin
-    # where they meet: the 1 g stall Mach (lift equation, ambiance) equals the Mach limit; brentq over altitude
+    # where they meet: the 1 g stall (or buffet-onset) Mach (ambiance) equals the Mach limit; brentq over altitude
     def gap(h):
         a = atm(h)
-        V_lim = float(C.max_free_speed(ac, type("A", (), {"speed_of_sound": float(a.speed_of_sound[0])})))
-        return math.sqrt(2 * W_S / (float(a.density[0]) * ac.polar.CLmax("clean"))) - V_lim
+        air = type("A", (), {"speed_of_sound": float(a.speed_of_sound[0]), "pressure": float(a.pressure[0])})
+        V_lim = float(C.max_free_speed(ac, air))
+        return _low_edge_mach(spec, W_S, a) * float(a.speed_of_sound[0]) - V_lim
     h_meet = brentq(gap, 0.0, 30000.0)
     assert cc.meet[0] == pytest.approx(h_meet, abs=30.0)            # 30 m: ambiance vs 1976 standard, grid root
-    # the band narrows with height in both (stall Mach up, Mach limit level or down): narrowest at the absolute
-    # ceiling, its width the Mach limit less the stall Mach there (lift equation, ambiance)
+    # the band narrows with height in both (low edge up, Mach limit level or down): narrowest at the absolute
+    # ceiling, its width the Mach limit less the low edge there (ambiance)
     hn, w, wv, lo, hi = cc.narrowest
     assert hn == pytest.approx(env.absolute_ceiling[0], abs=1.0)
     a = atm(hn)
-    M_s = math.sqrt(2 * W_S / (float(a.density[0]) * ac.polar.CLmax("clean"))) / float(a.speed_of_sound[0])
+    M_s = _low_edge_mach(spec, W_S, a)
     assert lo == pytest.approx(M_s, rel=1e-4) and w == pytest.approx(hi - M_s, rel=1e-3)
     assert wv == pytest.approx(w * float(a.speed_of_sound[0]), rel=1e-4)
     # zoom: the largest h + V^2/2g along the fast edge of the 1 g region (within the Mach limit), by hand
@@ -198,7 +222,8 @@ def test_wat_at_the_design_condition_is_the_design_mass(solved):
 
 
 def test_wat_against_an_independent_root_of_the_takeoff_constraint(solved):
-    # re-solve of the constraint: the takeoff function (Gudmundsson Eq. 3-4 form) at the airfield, written as
+    # re-solve of the constraint: the takeoff function (the example's balanced field, docs/references.md
+    # §7.8, with its propeller's momentum-theory cap at the trial mass) at the airfield, written as
     # T_SL/(m g) = required(m g/S), rooted with brentq here on its own
     spec, res = solved["regional-turboprop.yaml"]
     tree = M.spec_tree(spec)
@@ -213,7 +238,8 @@ def test_wat_against_an_independent_root_of_the_takeoff_constraint(solved):
         f = C.KINDS[req.kind].function
 
         def margin(m):
-            return d.power / (m * G0) - float(f(m * G0 / d.wing_area, None, req, ac).thrust)
+            ac_m = SimpleNamespace(**{**vars(ac), "takeoff_mass": m})
+            return d.power / (m * G0) - float(f(m * G0 / d.wing_area, None, req, ac_m).thrust)
         m_root = brentq(margin, 0.3 * d.takeoff_mass, 2.0 * d.takeoff_mass)
         assert c.by_requirement[rid] == pytest.approx(m_root, rel=1e-4)
     assert c.mass == min(c.by_requirement.values())
@@ -274,8 +300,9 @@ def test_payload_range_corners_against_breguet_by_hand(solved):
         R = brentq(lambda R: _breguet_mission_fuel(c.takeoff_mass, R, spec, res) - c.fuel, 0.0, 4e7)
         assert c.range == pytest.approx(R, rel=2e-4), name          # ambiance vs the 1976 standard
     # the corners of the file's capacities: 1 800 kg payload, 6 000 kg fuel
-    assert pr.corner("max-payload").payload == 1800.0 and pr.corner("ferry").fuel == 6000.0
-    assert pr.corner("max-fuel").payload == pytest.approx(d.takeoff_mass - d.empty_mass - d.crew_mass - 6000.0)
+    cap = spec.model.aircraft.weights.max_fuel.si         # the file's fuel capacity
+    assert pr.corner("max-payload").payload == 1800.0 and pr.corner("ferry").fuel == cap
+    assert pr.corner("max-fuel").payload == pytest.approx(d.takeoff_mass - d.empty_mass - d.crew_mass - cap)
     r = [pr.corner(n).range for n in ("max-payload", "design", "max-fuel", "ferry")]
     assert r == sorted(r)
     h = plot_payload_range(pr)

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from types import SimpleNamespace
 
 import numpy as np
 from scipy.optimize import brentq
@@ -155,6 +156,7 @@ def margin(req, ac, S, T_SL, m):
     T_SL [N] (P_SL [W] for propeller aircraft): >= 0 when met (min over its thrust and wing-loading bounds)."""
     m = np.atleast_1d(np.asarray(m, dtype=float))
     W_S, Y = m * g0 / S, T_SL / (m * g0)
+    ac = SimpleNamespace(**{**vars(ac), "takeoff_mass": m})     # a propeller diameter's cap depends on it
     thrust, wsl, _ = C.required_curve(req, ac, W_S)
     out = np.full(m.shape, np.inf)
     if thrust is not None:
