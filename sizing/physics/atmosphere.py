@@ -18,6 +18,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -176,6 +177,50 @@ def isa(altitude_m, temperature_offset_K=0.0) -> Atmosphere:
     ----------
     U.S. Standard Atmosphere, 1976, NOAA-S/T 76-1562, Part 1.
     """
+    if type(temperature_offset_K) in _SCALARS:
+        if type(altitude_m) in _SCALARS:
+            return _isa_scalar(altitude_m, temperature_offset_K)
+        if type(altitude_m) is np.ndarray and altitude_m.size <= _ARRAY_CACHE_SIZE:
+            return _isa_array(altitude_m, temperature_offset_K)
+    if m.is_scalar_sx(altitude_m, temperature_offset_K):
+        return Atmosphere(*m.inline(_isa_formula, 2, 4)(altitude_m, temperature_offset_K))
+    return _isa(altitude_m, temperature_offset_K)
+
+
+def _isa_formula(altitude_m, temperature_offset_K):
+    air = _isa(altitude_m, temperature_offset_K)
+    return air.temperature, air.pressure, air.density, air.speed_of_sound
+
+
+_SCALARS = frozenset({float, int, np.float64})
+_ARRAY_CACHE_SIZE = 4096       # arrays up to this many altitudes are remembered too
+_ARRAYS: dict = {}
+
+
+@lru_cache(maxsize=4096)
+def _isa_scalar(altitude_m, temperature_offset_K):
+    """:func:`isa` at one numeric altitude, remembered: the same few altitudes are asked for
+    many times in a solve (the result is immutable, errors are not remembered)."""
+    return _isa(altitude_m, temperature_offset_K)
+
+
+def _isa_array(altitude_m, temperature_offset_K):
+    """:func:`isa` on a small array, remembered by its bytes (a search evaluates the same
+    altitudes again and again); the remembered arrays are read-only."""
+    key = (altitude_m.dtype.str, altitude_m.shape, altitude_m.tobytes(), float(temperature_offset_K))
+    air = _ARRAYS.get(key)
+    if air is None:
+        air = _isa(altitude_m, temperature_offset_K)
+        for v in (air.temperature, air.pressure, air.density, air.speed_of_sound):
+            if isinstance(v, np.ndarray):
+                v.flags.writeable = False
+        if len(_ARRAYS) >= 64:
+            _ARRAYS.pop(next(iter(_ARRAYS)))
+        _ARRAYS[key] = air
+    return air
+
+
+def _isa(altitude_m, temperature_offset_K):
     _check_range(altitude_m)
     T_std, p = standard_temperature_pressure(altitude_m)
     T = T_std + temperature_offset_K

@@ -24,30 +24,72 @@ import casadi as ca
 import numpy as np
 
 _CASADI_TYPES = (ca.SX, ca.MX, ca.DM)
+# exact types that are never symbolic: the common numeric case is decided by one set lookup
+# per argument instead of an isinstance test against the CasADi types
+_PLAIN = frozenset({float, int, bool, np.ndarray, np.float64, np.bool_, np.int64})
 
 
 def is_symbolic(*args) -> bool:
     """True when any argument is a CasADi SX/MX/DM object."""
-    return any(isinstance(a, _CASADI_TYPES) for a in args)
+    for a in args:
+        if type(a) not in _PLAIN and isinstance(a, _CASADI_TYPES):
+            return True
+    return False
 
 
-def _pick(*args):
-    return ca if is_symbolic(*args) else np
+def is_scalar_sx(*args) -> bool:
+    """True when the arguments are numbers or 1 x 1 CasADi SX, at least one of them SX."""
+    sx = False
+    for a in args:
+        if type(a) is ca.SX:
+            if a.shape != (1, 1):
+                return False
+            sx = True
+        elif type(a) not in _PLAIN or (type(a) is np.ndarray and a.size != 1):
+            return False
+    return sx
+
+
+_INLINED: dict = {}
+
+
+def inline(formula, n_in, n_out, key=()):
+    """A CasADi function of ``n_in`` scalars made once from ``formula`` (a Python function
+    written with this shim) and remembered under (formula, key): calling it on SX symbols
+    copies its whole expression graph in one call instead of one Python call per
+    operation (the same operations, so the same values). ``key`` tells apart the
+    formulas of one Python function that differ in numbers they close over."""
+    k = (formula.__module__, formula.__qualname__, key)
+    fun = _INLINED.get(k)
+    if fun is None:
+        xs = [ca.SX.sym(f"a{i}") for i in range(n_in)]
+        out = formula(*xs)
+        out = out if isinstance(out, tuple) else (out,)
+        assert len(out) == n_out
+        fun = ca.Function("inlined", xs, [ca.SX(o) for o in out])
+        _INLINED[k] = fun
+    return fun
 
 
 def sqrt(x):
     """Square root."""
-    return _pick(x).sqrt(x)
+    if type(x) in _PLAIN or not isinstance(x, _CASADI_TYPES):
+        return np.sqrt(x)
+    return ca.sqrt(x)
 
 
 def exp(x):
     """Exponential."""
-    return _pick(x).exp(x)
+    if type(x) in _PLAIN or not isinstance(x, _CASADI_TYPES):
+        return np.exp(x)
+    return ca.exp(x)
 
 
 def log(x):
     """Natural logarithm."""
-    return _pick(x).log(x)
+    if type(x) in _PLAIN or not isinstance(x, _CASADI_TYPES):
+        return np.log(x)
+    return ca.log(x)
 
 
 def sin(x):
@@ -72,6 +114,8 @@ def asin(x):
 
 def power(x, y):
     """x ** y (with symbolic exponents allowed)."""
+    if type(x) in _PLAIN and type(y) in _PLAIN:
+        return np.power(x, y)
     if is_symbolic(x, y):
         return ca.power(x, y)
     return np.power(x, y)
@@ -79,6 +123,8 @@ def power(x, y):
 
 def fmax(a, b):
     """Element-wise maximum."""
+    if type(a) in _PLAIN and type(b) in _PLAIN:
+        return np.maximum(a, b)
     if is_symbolic(a, b):
         return ca.fmax(a, b)
     return np.maximum(a, b)
@@ -86,6 +132,8 @@ def fmax(a, b):
 
 def fmin(a, b):
     """Element-wise minimum."""
+    if type(a) in _PLAIN and type(b) in _PLAIN:
+        return np.minimum(a, b)
     if is_symbolic(a, b):
         return ca.fmin(a, b)
     return np.minimum(a, b)
@@ -108,12 +156,16 @@ def smooth_max(a, b, blend=0.02):
 
 
 def clip(x, lo, hi):
-    """Clip x to [lo, hi]."""
+    """Clip x to [lo, hi] (``min(max(x, lo), hi)``, also where lo > hi)."""
+    if type(x) in _PLAIN and type(lo) in _PLAIN and type(hi) in _PLAIN:
+        return np.minimum(np.maximum(x, lo), hi)
     return fmin(fmax(x, lo), hi)
 
 
 def if_else(cond, a, b):
     """a where cond holds, else b (both branches are evaluated)."""
+    if type(cond) in _PLAIN and type(a) in _PLAIN and type(b) in _PLAIN:
+        return np.where(cond, a, b)
     if is_symbolic(cond, a, b):
         return ca.if_else(cond, a, b)
     return np.where(cond, a, b)
@@ -182,6 +234,17 @@ def monotone_cubic(x, xs, ys, slopes=None):
     if xs.size == 1:
         return ys[0] + 0.0 * x
     d = pchip_slopes(xs, ys) if slopes is None else slopes
+    if not is_symbolic(x) and np.size(x) <= 256:      # small: one array call per term (faster)
+        return _monotone_cubic_numeric(x, xs, ys, np.asarray(d, dtype=float))
+    if is_scalar_sx(x):
+        d = np.asarray(d, dtype=float)
+        key = (xs.tobytes(), ys.tobytes(), d.tobytes())
+        return inline(lambda t: _monotone_cubic_sum(t, xs, ys, d), 1, 1, key)(x)
+    return _monotone_cubic_sum(x, xs, ys, d)
+
+
+def _monotone_cubic_sum(x, xs, ys, d):
+    """:func:`monotone_cubic` as a sum over the intervals (any backend)."""
     y = float(ys[0]) + 0.0 * x
     for i in range(xs.size - 1):
         h = float(xs[i + 1] - xs[i])
@@ -192,6 +255,25 @@ def monotone_cubic(x, xs, ys, slopes=None):
         h11 = t3 - t2
         y = y + (float(ys[i + 1]) - float(ys[i])) * h01 + h * (float(d[i]) * h10 + float(d[i + 1]) * h11)
     return y
+
+
+def _monotone_cubic_numeric(x, xs, ys, d):
+    """:func:`monotone_cubic` on numbers: every interval's two terms at once (along a new
+    first axis), summed in the order of the symbolic form by ``cumsum``, so the value is
+    the same to the last bit."""
+    xa = np.asarray(x, dtype=float)
+    col = (-1,) + (1,) * xa.ndim
+    h = (xs[1:] - xs[:-1]).reshape(col)
+    t = np.minimum(np.maximum((xa - xs[:-1].reshape(col)) / h, 0.0), 1.0)
+    t2, t3 = t * t, t * t * t
+    h10 = t3 - 2.0 * t2 + t
+    h01 = -2.0 * t3 + 3.0 * t2
+    h11 = t3 - t2
+    terms = np.empty((2 * h.size + 1,) + xa.shape)
+    terms[0] = float(ys[0]) + 0.0 * xa
+    terms[1::2] = (ys[1:] - ys[:-1]).reshape(col) * h01
+    terms[2::2] = h * (d[:-1].reshape(col) * h10 + d[1:].reshape(col) * h11)
+    return np.cumsum(terms, axis=0)[-1][()]
 
 
 def piecewise_linear(x, xs, ys):
