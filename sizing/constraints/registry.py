@@ -172,14 +172,24 @@ def max_free_speed(ac, air):
     return V
 
 
-def required_curve(req, ac, W_S, samples=240, refine=40):
+def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None):
     """Numpy curve of a requirement over an array of wing loadings.
 
     Returns (thrust, wing_loading_limit, best_speed): required T_SL/W_TO (or
-    P_SL/W_TO) per W_S, minimised over the free speed where the kind has one
-    (dense scan from stall to the speed limit, then golden-section
-    refinement); ``inf`` where no speed works; None where the kind sets no
-    such bound. ``req.beta`` may be a number or an array over ``W_S``.
+    P_SL/W_TO) per W_S, minimised over the free speed where the kind has one;
+    ``inf`` where no speed works; None where the kind sets no such bound.
+    ``req.beta`` (and any other field of ``req``) may be a number or an array
+    over ``W_S``.
+
+    The free speed is found by nested scans, each one array evaluation for
+    every wing loading at once: ``samples`` speeds from stall to the speed
+    limit, then ``refine`` speeds between the neighbours of the best one,
+    again until the thrust at the bracket's ends is within ``rtol`` (default
+    :data:`THRUST_RTOL`) of the best (or the bracket is below :data:`SPEED_RTOL`
+    of the speed).
+    A minimum on an edge of the window (stall, speed limit) or at a kink of
+    the lapse stays in the bracket, as every scan includes its ends; a smooth
+    minimum takes four scans, a kink a few more.
     """
     W_S = np.atleast_1d(np.asarray(W_S, dtype=float))
     kind = KINDS[req.kind]
@@ -192,35 +202,37 @@ def required_curve(req, ac, W_S, samples=240, refine=40):
     V_lo = np.broadcast_to(np.asarray(V_lo, float), W_S.shape)
     V_hi = np.broadcast_to(np.asarray(V_hi, float), W_S.shape)
     ok = V_hi >= V_lo
-    u = np.linspace(0.0, 1.0, samples)
-    V = V_lo[:, None] + u[None, :] * np.maximum(V_hi - V_lo, 0.0)[:, None]
+    # fields given per wing loading (a weight fraction per point of a mission, a value per
+    # probe of a margin search) become columns for the (wing loading x speed) evaluation
+    cols = {k: v.reshape(-1)[:, None] for k, v in vars(req).items()
+            if isinstance(v, np.ndarray) and v.ndim and v.size > 1}
+    req2 = SimpleNamespace(**{**vars(req), **cols}) if cols else req
+    Wc = W_S[:, None]
 
-    beta = np.asarray(req.beta, dtype=float)
-    req2 = req
-    if beta.ndim and beta.size > 1:       # a weight fraction per wing loading (mission `after:`)
-        req2 = SimpleNamespace(**{**vars(req), "beta": beta.reshape(-1)[:, None]})
+    def f(V):
+        T = np.asarray(evaluate(req2, ac, Wc, V).thrust, float)
+        return np.where(np.isfinite(T) & (T > 0), T, np.inf)
 
-    def f(Vx):
-        if Vx.ndim == 2:
-            return np.asarray(evaluate(req2, ac, W_S[:, None], Vx).thrust, float)
-        return np.asarray(evaluate(req, ac, W_S, Vx).thrust, float)
-
-    T = f(V)
-    T = np.where(np.isfinite(T) & (T > 0), T, np.inf)
-    j = np.argmin(T, axis=1)
+    rtol = THRUST_RTOL if rtol is None else rtol
+    a, b = V_lo, np.maximum(V_hi, V_lo)
     rows = np.arange(W_S.size)
-    a = V[rows, np.maximum(j - 1, 0)]
-    b = V[rows, np.minimum(j + 1, samples - 1)]
-    phi = (np.sqrt(5.0) - 1.0) / 2.0
-    for _ in range(refine):
-        c = b - phi * (b - a)
-        d = a + phi * (b - a)
-        fc, fd = f(c), f(d)
-        left = fc < fd
-        b = np.where(left, d, b)
-        a = np.where(left, a, c)
-    V_best = 0.5 * (a + b)
-    T_best = np.minimum(f(V_best), T[rows, j])
-    V_best = np.where(f(V_best) <= T[rows, j], V_best, V[rows, j])
+    u = np.linspace(0.0, 1.0, samples)
+    for _ in range(12):
+        V = a[:, None] + u[None, :] * (b - a)[:, None]
+        V[:, -1] = b                                     # the window's end exactly
+        T = f(V)
+        j = np.argmin(T, axis=1)
+        jl, jr = np.maximum(j - 1, 0), np.minimum(j + 1, u.size - 1)
+        V_best, T_best = V[rows, j], T[rows, j]
+        a, b = V[rows, jl], V[rows, jr]
+        with np.errstate(invalid="ignore"):
+            flat = np.maximum(T[rows, jl], T[rows, jr]) - T_best <= rtol * T_best
+        if np.all(flat | ~np.isfinite(T_best) | (b - a <= SPEED_RTOL * np.abs(V_best))):
+            break
+        u = np.linspace(0.0, 1.0, max(int(refine), 3))
     T_best = np.where(ok, T_best, np.inf)
     return T_best, None, V_best
+
+
+THRUST_RTOL = 1e-13   # free-speed scans stop when the bracket's ends are this close in thrust
+SPEED_RTOL = 1e-9     # ... or the bracket this narrow (a fraction of the speed)

@@ -17,7 +17,6 @@ def scan(prob, p, n=48):
     """(x0, found): the lightest closed design of an n-point W/S scan as a scaled decision
     vector clipped to the bounds, and whether any scanned point met every requirement and
     closed (else x0 is the point needing the least thrust)."""
-    """Best point of a coarse numpy scan over W/S (the spreadsheet way)."""
     tree = prob.tree_of(p)
     W = np.geomspace(prob.WS_bounds[0], prob.WS_bounds[1], n)
     fixed = prob.fixed_mass(tree)
@@ -59,7 +58,7 @@ def _scan_once(prob, tree, W, takeoff_mass):
         beta = seg_end.get(wf["after"], 1.0) if isinstance(wf, dict) else None
         req = M.requirement(r, ac, beta)
         with np.errstate(all="ignore"):
-            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60)
+            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60, rtol=1e-8)   # a start only
         if thrust is not None:
             Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
         if lim is not None:
@@ -77,7 +76,10 @@ def _scan_once(prob, tree, W, takeoff_mass):
         for _ in range(30):
             f_e = Wt.empty_fraction_of(tree, mass, W, Y_need, prob.propeller)
             closes = 1 - f_fuel - f_e > 0.01
-            mass = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
-            mass = np.clip(mass, fixed, 1000 * fixed)     # a finite start for the next step
+            new = np.where(closes, fixed / (1 - f_fuel - f_e), np.inf)
+            new = np.clip(new, fixed, 1000 * fixed)       # a finite start for the next step
+            if np.array_equal(new, mass):                 # a fixed point: more steps change nothing
+                break
+            mass = new
         closes &= mass < 1000 * fixed                      # inside the search region
     return Y_need, ok, speeds, mass, closes
