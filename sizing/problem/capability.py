@@ -69,87 +69,191 @@ def sensitivity_unit(spec, rid, field):
 
 def margin_at(r: dict, tree: dict, W_S, Y, beta, takeoff_mass=None) -> float:
     """Smallest fractional margin of a requirement at (W_S, Y), best free speed."""
+    field = M.value_field(r)
     ac = M.aircraft(tree, takeoff_mass)
-    req = M.requirement(r, ac, beta)
+    return float(margins_at(r, ac, W_S, Y, beta, field, np.array([float(r[field])]))[0])
+
+
+def margins_at(r: dict, ac, W_S, Y, beta, field, values, sign_only=False) -> np.ndarray:
+    """Smallest fractional margin of a requirement at (W_S, Y), best free speed, for an array
+    of values of its headline field at once (one evaluation of the constraint function).
+
+    -1 where a thrust cannot be had at any speed; the smaller of the thrust margin
+    Y/T - 1 and the wing-loading margin W/S_limit / W/S - 1 where the kind has both.
+    ``sign_only``: only the sign of each margin is sure (a free speed is refined only as
+    far as the sign needs, :func:`sizing.constraints.required_curve` ``level``).
+    """
+    level = Y if sign_only else None
+    values = np.asarray(values, dtype=float)
+    rr = dict(r)
+    rr[field] = values
+    req = M.requirement(rr, ac, beta)
     with np.errstate(all="ignore"):
-        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=24)
-    margins = []
-    if thrust is not None:
-        t = float(thrust[0])
-        margins.append(Y / t - 1.0 if np.isfinite(t) and t > 0 else -1.0)
-    if lim is not None:
-        margins.append(float(lim[0]) / W_S - 1.0)
-    return min(margins) if margins else math.inf
+        thrust, lim, _ = C.required_curve(req, ac, np.full(values.shape, float(W_S)), samples=48, refine=48,
+                                          rtol=MARGIN_RTOL, level=level)
+        out = np.full(values.shape, math.inf)
+        if thrust is not None:
+            out = np.where(np.isfinite(thrust) & (thrust > 0), Y / thrust - 1.0, -1.0)
+        if lim is not None:
+            m_lim = lim / W_S - 1.0
+            # min(thrust margin, limit margin) as Python's min takes it (NaN-safe the same way)
+            out = m_lim if thrust is None else np.where(m_lim < out, m_lim, out)
+    return out
+
+
+WALK_STEPS = 60        # outward steps before a margin search gives up
+WALK_FIRST = 6         # of which the first few are tried in the first call
+BISECTIONS = 40        # at most this many halvings of the bracket
+BISECT_RTOL = 1e-6     # the bracket is halved down to this fraction: 6 digits, plenty for a text
+TREE_DEPTH = (9, 7)    # most bisection levels evaluated in one call (2^depth - 1 probes):
+                       # fixed-speed kinds, kinds with a free speed (each probe a speed scan)
+MARGIN_RTOL = 1e-10    # thrust accuracy of a probe (a text shows five digits at most)
 
 
 def capability(r: dict, tree: dict, W_S, Y, beta, field=None, takeoff_mass=None):
     """Value of the headline field at which the design just meets the requirement.
 
-    Field lengths are computed directly (the distance the design needs); the other fields by
-    bisection on the field's value (SI) using the constraint function itself. Returns None when
-    no bracket is found (for example the design meets the requirement for any value in the
-    plausible range).
+    Field lengths are computed directly (the distance the design needs, :func:`field_length`);
+    the other fields by a bisection on the field's value (SI) using the constraint
+    function itself: from the file's value, steps growing by 1.6 (the first 5 %)
+    walk outwards, harder while the requirement is met, easier while it is not,
+    until the margin changes sign; then the bracket is halved until it is below
+    :data:`BISECT_RTOL` of the value. The probes are evaluated in a few array calls
+    rather than one by one: the first walk steps at once, then several levels of
+    the bisection at once (all midpoints it could visit), so the answer is
+    the sequential bisection's own. Returns None when no bracket is found (for
+    example the design meets the requirement for any value in the plausible range).
     """
     field = field or M.value_field(r)
     harder = HARDER.get(field, +1)
     if isinstance(harder, dict):
         harder = harder.get(r["kind"], +1)
     v0 = float(r[field])
-
     ac = M.aircraft(tree, takeoff_mass)
     direct = field_length(r, ac, W_S, Y, beta)
     if direct is not None:
         return direct
+    g = _margin_function(r, ac, W_S, Y, beta, field)
+    max_depth = TREE_DEPTH[1] if C.KINDS[r["kind"]].has_free_speed(M.requirement(r, ac, beta)) else TREE_DEPTH[0]
 
-    def beyond_limit(rr):
-        """A speed above the speed limit or the polar's Mach table is not flown."""
-        if field not in ("mach", "speed") or r["kind"] == "stall-speed":
-            return False
-        air = C.condition(M.requirement(rr, ac, beta))
-        V = C.fixed_speed(M.requirement(rr, ac, beta), air)
-        return float(V) > float(C.max_free_speed(ac, air)) * (1 + 1e-9)
+    # the walk in both directions (which one is taken depends on the sign at v0): its
+    # first steps with v0 in one call, the rest only when they are needed
+    walks = {d: _walk(v0, d, field) for d in (+1, -1)}
+    n = WALK_FIRST
+    G = g(np.concatenate([[v0], walks[+1][:n], walks[-1][:n]]))
+    g0 = G[0]
+    if not np.isfinite(g0):
+        return None
+    direction = harder if g0 >= 0 else -harder
+    seq = walks[direction]
+    gs = G[1:1 + min(n, walks[+1].size)] if direction == +1 else G[1 + min(n, walks[+1].size):]
+    flips = np.flatnonzero(((gs >= 0) != (g0 >= 0)) & np.isfinite(seq[:n]))
+    if flips.size == 0 and seq.size > n:
+        gs = np.concatenate([gs, g(seq[n:])])
+        flips = np.flatnonzero(((gs >= 0) != (g0 >= 0)) & np.isfinite(seq))
+    if flips.size == 0:
+        return None
+    k = int(flips[0])
+    a, b = (seq[k - 1] if k else v0), seq[k]
+    a_met = (gs[k - 1] if k else g0) >= 0
+    # the bisection, TREE_DEPTH levels per array call
+    done = 0
+    while done < BISECTIONS and abs(b - a) > BISECT_RTOL * max(abs(a), abs(b), 1e-3):
+        # the levels still needed, in as few calls as the depth allows, split evenly
+        need = math.ceil(math.log2(abs(b - a) / (BISECT_RTOL * max(abs(a), abs(b), 1e-3))))
+        need = max(1, min(need, BISECTIONS - done))
+        depth = math.ceil(need / math.ceil(need / max_depth))
+        mids = _midpoint_tree(a, b, depth)
+        met = g(mids) >= 0
+        i = 0
+        for _ in range(depth):
+            if abs(b - a) <= BISECT_RTOL * max(abs(a), abs(b), 1e-3):
+                break
+            c = mids[i]
+            if met[i] == a_met:
+                a, i = c, 2 * i + 2
+            else:
+                b, i = c, 2 * i + 1
+            done += 1
+    return float(0.5 * (a + b))
 
-    def g(v):
+
+def _walk(v0, direction, field):
+    """The outward walk's probes from v0 (steps 5 % then x1.6; positive fields halve
+    towards zero instead of crossing it; an altitude walk ends at the atmosphere's edge)."""
+    out, lo, step = [], v0, max(abs(v0) * 0.05, 1e-3)
+    for _ in range(WALK_STEPS):
+        hi = lo + direction * step
+        if field in _POSITIVE and hi <= 0:
+            hi = lo / 2
+        if field == "altitude" and not (-4900 < hi < 80000):
+            out.append(math.nan)          # the walk leaves the atmosphere model here: no bracket
+            break
+        out.append(hi)
+        lo, step = hi, step * 1.6
+    return np.array(out)
+
+
+_POSITIVE = ("load_factor", "mach", "speed", "ground_roll", "climb_rate")
+
+
+def _midpoint_tree(a, b, depth):
+    """Every midpoint a bisection of [a, b] can visit in ``depth`` steps, as a heap
+    (node i's children are 2i + 1, left half, and 2i + 2, right half), computed level by
+    level with the same floating-point operations as the sequential bisection."""
+    lo, hi = np.array([a], dtype=float), np.array([b], dtype=float)
+    levels = []
+    for _ in range(depth):
+        c = 0.5 * (lo + hi)
+        levels.append(c)
+        lo2, hi2 = np.empty(2 * c.size), np.empty(2 * c.size)
+        lo2[0::2], lo2[1::2], hi2[0::2], hi2[1::2] = lo, c, c, hi
+        lo, hi = lo2, hi2
+    return np.concatenate(levels)
+
+
+def _margin_function(r, ac, W_S, Y, beta, field):
+    """g(values) -> margins at the design for an array of headline values; -1 where a speed
+    lies above the speed limit or the polar's Mach table (not flown) or the value is
+    outside the models (NaN probes included)."""
+    limited = field in ("mach", "speed") and r["kind"] != "stall-speed"
+
+    def one(v):
         rr = dict(r)
         rr[field] = v
         try:
-            if beyond_limit(rr):
-                return -1.0
-            return margin_at(rr, tree, W_S, Y, beta, takeoff_mass)
+            if limited:
+                req = M.requirement(rr, ac, beta)
+                air = C.condition(req)
+                if float(C.fixed_speed(req, air)) > float(C.max_free_speed(ac, air)) * (1 + 1e-9):
+                    return -1.0
+            return float(margins_at(r, ac, W_S, Y, beta, field, np.array([v]))[0])
         except ValueError:
             return -1.0
 
-    g0 = g(v0)
-    if not np.isfinite(g0):
-        return None
-    # walk outwards in the "harder" direction if met, "easier" if not
-    direction = harder if g0 >= 0 else -harder
-    lo, hi = v0, v0
-    step = max(abs(v0) * 0.05, 1e-3)
-    for _ in range(60):
-        hi = lo + direction * step
-        if field in ("load_factor", "mach", "speed", "ground_roll", "climb_rate") and hi <= 0:
-            hi = lo / 2
-        if field == "altitude" and not (-4900 < hi < 80000):
-            return None
-        gh = g(hi)
-        if (gh >= 0) != (g0 >= 0):
-            break
-        lo, step = hi, step * 1.6
-    else:
-        return None
-    a, b = lo, hi
-    ga = g(a)
-    for _ in range(40):
-        if abs(b - a) <= 1e-6 * max(abs(a), abs(b), 1e-3):   # 6 digits: plenty for a margin text
-            break
-        c = 0.5 * (a + b)
-        gc = g(c)
-        if (gc >= 0) == (ga >= 0):
-            a, ga = c, gc
-        else:
-            b = c
-    return 0.5 * (a + b)
+    def g(values):
+        values = np.asarray(values, dtype=float)
+        ok = np.isfinite(values)
+        out = np.full(values.shape, -1.0)
+        v = values[ok]
+        if not v.size:
+            return out
+        try:
+            with np.errstate(all="ignore"):
+                res = margins_at(r, ac, W_S, Y, beta, field, v, sign_only=True)
+                if limited:
+                    rr = dict(r)
+                    rr[field] = v
+                    req = M.requirement(rr, ac, beta)
+                    air = C.condition(req)
+                    beyond = np.asarray(C.fixed_speed(req, air)) > np.asarray(C.max_free_speed(ac, air)) * (1 + 1e-9)
+                    res = np.where(beyond, -1.0, res)
+        except ValueError:          # a probe outside a model: each on its own, as one would
+            res = np.array([one(float(x)) for x in v])
+        out[ok] = res
+        return out
+
+    return g
 
 
 def fmt(value_si, unit, scale):
