@@ -181,10 +181,7 @@ class Problem:
         self._g_expr, self._f_expr = g, f
         nlp = {"x": x, "p": P, "f": f, "g": g}
         self.solver = ca.nlpsol("sizing", "ipopt", nlp, IPOPT_OPTIONS)
-        self.solver_warm = ca.nlpsol("sizing_warm", "ipopt", nlp, {**IPOPT_OPTIONS, **_IPOPT_WARM})
-        lam = ca.SX.sym("lam", g.shape[0])
-        L = f + ca.dot(lam, g)
-        self._dLdp = ca.Function("dLdp", [x, P, lam], [ca.jacobian(L, P)])
+        self._solver_warm = self._dLdp = None      # built on first use
         self._g_fun = ca.Function("g", [x, P], [g, f_fuel, f_empty])
         self.lbg = np.zeros(len(rows))
         self.ubg = np.array([0.0 if w == "closure" else np.inf for _, w in rows])
@@ -221,7 +218,19 @@ class Problem:
 
     def lagrangian_gradient(self, x, p, lam_g):
         """d L / d p of L = f + lam_g . g at a solution [objective units per SI parameter unit]."""
+        if self._dLdp is None:
+            lam = ca.SX.sym("lam", self._g_expr.shape[0])
+            L = self._f_expr + ca.dot(lam, self._g_expr)
+            self._dLdp = ca.Function("dLdp", [self._x, self._P, lam], [ca.jacobian(L, self._P)])
         return np.array(self._dLdp(x, p, lam_g), dtype=float).ravel()
+
+    @property
+    def solver_warm(self):
+        """IPOPT with warm-start options (multipliers given), built on first use."""
+        if self._solver_warm is None:
+            nlp = {"x": self._x, "p": self._P, "f": self._f_expr, "g": self._g_expr}
+            self._solver_warm = ca.nlpsol("sizing_warm", "ipopt", nlp, {**IPOPT_OPTIONS, **_IPOPT_WARM})
+        return self._solver_warm
 
     # --------------------------------------------------------------- parameters
     def parameters(self, spec=None) -> np.ndarray:
