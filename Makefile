@@ -4,7 +4,7 @@ VENV   := .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 
-.PHONY: demo test bench clean browser
+.PHONY: demo test quick fuzz bench clean browser
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -32,8 +32,20 @@ browser:
 	        chromium fonts-liberation >/dev/null; } || echo "could not install chromium: the browser tests will skip"; \
 	  else echo "no $(CHROMIUM) and no apt-get as root here: the browser tests will skip"; fi; }
 
+# every test, the same hypothesis examples on every run; the 15 slowest are listed at the end
 test: $(STAMP) browser
-	$(BIN)/python -m pytest -q -rs
+	$(BIN)/python -m pytest -q -rs --durations=15
+
+# the same without the long groups (marked slow): brute-force grids, random sets, fuzzing
+quick: $(STAMP)
+	$(BIN)/python -m pytest -q -m "not slow" --durations=15
+
+# new hypothesis examples: prints the seed; `make fuzz SEED=<seed>` replays a run
+fuzz: $(STAMP)
+	@seed=$${SEED:-$$(od -An -N4 -tu4 /dev/urandom | tr -d ' ')}; \
+	echo "hypothesis seed $$seed (replay: make fuzz SEED=$$seed)"; \
+	$(BIN)/python -m pytest -q -m hypothesis --hypothesis-profile=fuzz --hypothesis-seed=$$seed; \
+	status=$$?; echo "hypothesis seed $$seed (replay: make fuzz SEED=$$seed)"; exit $$status
 
 bench: $(STAMP)
 	$(BIN)/python bench/run.py

@@ -5,11 +5,17 @@ from pathlib import Path
 import pytest
 from hypothesis import settings
 
-# CI explores the same hypothesis examples on every run (reproducible verdicts); local runs
-# keep drawing new ones.
-settings.register_profile("ci", derandomize=True, database=None, print_blob=True)
-if os.environ.get("CI"):
-    settings.load_profile("ci")
+# Every run draws the same hypothesis examples, for everyone, CI or not: a suite that passed
+# passes again, and a failure is the same failure on every machine. `make fuzz` explores
+# new examples instead (profile "fuzz", a printed seed replays them: `make fuzz SEED=...`).
+settings.register_profile("repeatable", derandomize=True, database=None, print_blob=True, deadline=None)
+settings.register_profile("fuzz", derandomize=False, database=None, print_blob=True, deadline=None)
+settings.load_profile(os.environ.get("SIZING_HYPOTHESIS_PROFILE", "repeatable"))
+
+
+def pytest_configure(config):
+    config.addinivalue_line("markers", "slow: a long group (brute-force grids, random sets); `make test` "
+                                       "runs it, `make quick` leaves it out")
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))

@@ -1,22 +1,23 @@
-"""The installed console script on the example files; the --json object of docs/file-format.md §10.
+"""The command line on the example files; the --json object of docs/file-format.md §10.
+
+Most checks call :func:`sizing.cli.main` in this process (tests/cliutil.py); a handful of
+smoke tests run the installed console script itself: a solve, --json, a broken file, an
+infeasible set and ``python -m sizing``.
 
 # common practice, no source (interface checks against README.md "Usage" and "When things go wrong", docs/file-format.md §9-10)
 """
 import json
-import shutil
 import subprocess
 import sys
 from pathlib import Path
 
 import pytest
 
+from .cliutil import run, script
+from .test_infeasible import CONFLICT, text_of
+
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
-SIZING = shutil.which("sizing", path=str(Path(sys.executable).parent)) or "sizing"
-
-
-def run(*args):
-    return subprocess.run([SIZING, *map(str, args)], capture_output=True, text=True, cwd=ROOT, timeout=300)
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])
@@ -55,23 +56,46 @@ def test_json_has_the_design_fields(path):
     assert set(obj["drivers"]) - {"mission fuel"} == {q["id"] for q in obj["requirements"] if q["active"]}
 
 
-def test_weight_statement_closes():
+def test_weight_statement_closes(solved):
     # Source: Raymer Ch. 3 closure, W0 = W_crew + W_payload + W_fuel + W_empty
-    from sizing import load, solve
-    for path in EXAMPLES:
-        res = solve(load(path))
+    for _spec, res in solved.values():
         d = res.design
         assert d.crew_mass + d.payload_mass + d.empty_mass + d.fuel_mass == pytest.approx(d.takeoff_mass, rel=1e-8)
 
 
-def test_check_and_module_entry_point():
+def test_check():
     r = run("check", EXAMPLES[0])
     assert r.returncode == 0 and "valid" in r.stdout
+
+
+# ------------------------------------------------------------------ the real console script
+
+def test_console_script_solves_and_keeps_ipopt_quiet():
+    # the installed entry point: design, drivers, caution; IPOPT's own output (written by C
+    # code, so only a real process shows it) never reaches the terminal
+    r = script("solve", ROOT / "requirements" / "trainer-jet.yaml")
+    assert r.returncode == 0, r.stderr
+    assert "Design point" in r.stdout and "Drivers" in r.stdout and "not for certification" in r.stdout.lower()
+    assert "Ipopt" not in r.stdout + r.stderr and "EXIT:" not in r.stdout and r.stderr == ""
+
+
+def test_console_script_json_and_module_entry_point():
+    r = script("solve", "--json", EXAMPLES[0])
+    assert r.returncode == 0 and json.loads(r.stdout)["status"] == "optimal"
     r2 = subprocess.run([sys.executable, "-m", "sizing", "solve", str(EXAMPLES[0]), "--json"],
                         capture_output=True, text=True, cwd=ROOT, timeout=300)
-    assert r2.returncode == 0 and json.loads(r2.stdout)["status"] == "optimal"
+    assert r2.returncode == 0 and json.loads(r2.stdout) == json.loads(r.stdout)
 
 
-def test_ipopt_output_never_reaches_the_terminal():
-    r = run("solve", EXAMPLES[-1])
-    assert "Ipopt" not in r.stdout + r.stderr and "EXIT:" not in r.stdout
+def test_console_script_broken_file_is_exit_2_without_traceback():
+    path = ROOT / "tests" / "broken" / "unknown-unit.yaml"
+    r = script("solve", path)
+    assert r.returncode == 2 and r.stdout == "" and "Traceback" not in r.stderr
+    assert r.stderr.startswith(f"error: {path}:18: requirements[0] (id approach-stall).speed: ")
+
+
+def test_console_script_infeasible_set_is_exit_3(tmp_path):
+    f = tmp_path / "conflict.yaml"
+    f.write_text(text_of(CONFLICT))
+    r = script("solve", f)
+    assert r.returncode == 3 and "NO FEASIBLE DESIGN" in r.stdout and "Traceback" not in r.stderr

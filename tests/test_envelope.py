@@ -9,8 +9,6 @@ formulas with the general-purpose `ambiance` ICAO atmosphere.
 """
 import copy
 import math
-import subprocess
-import sys
 from pathlib import Path
 from types import SimpleNamespace
 
@@ -32,6 +30,8 @@ from sizing.common.errors import InputError
 from sizing.common.caution import CAUTION
 from sizing.problem import solve
 from sizing.inputs.spec import load, validate
+
+from .cliutil import run as run_cli
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
@@ -344,14 +344,10 @@ def test_report_section():
     assert png[:4] == b"\x89PNG"
 
 
-SIZING = Path(sys.executable).parent / "sizing"
-
-
 def test_cli_envelope(tmp_path):
     out, csv = tmp_path / "env.svg", tmp_path / "env.csv"
-    p = subprocess.run([str(SIZING), "envelope", "requirements/touring-piston.yaml", "-o", str(out),
-                        "--data", str(csv), "--weight-fraction", "0.9"], cwd=ROOT, capture_output=True,
-                       text=True, timeout=120)
+    p = run_cli("envelope", "requirements/touring-piston.yaml", "-o", out, "--data", csv,
+                "--weight-fraction", "0.9", cwd=ROOT)
     assert p.returncode == 0, p.stderr
     assert "service ceiling" in p.stdout and CAUTION in p.stdout and f"wrote {out}" in p.stdout
     assert "weight fraction 0.900" in p.stdout
@@ -365,7 +361,6 @@ def test_cli_envelope(tmp_path):
 @pytest.mark.parametrize("args, words", [(["-o", "env.txt"], "not a figure format"),
                                          (["--weight-fraction", "0"], "weight fraction")])
 def test_cli_envelope_bad_input(tmp_path, args, words):
-    p = subprocess.run([str(SIZING), "envelope", str(ROOT / "requirements/touring-piston.yaml"), *args],
-                       cwd=tmp_path, capture_output=True, text=True, timeout=120)
+    p = run_cli("envelope", ROOT / "requirements/touring-piston.yaml", *args, cwd=tmp_path)
     assert p.returncode == 2
     assert words in p.stderr and "Traceback" not in p.stderr

@@ -18,8 +18,6 @@ import json
 import math
 import random
 import re
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -38,9 +36,10 @@ from sizing.reports.serialize import as_dict
 from sizing.problem import Problem, build, solve
 from sizing.inputs.spec import load_text, validate
 
+from .cliutil import run as run_cli
+
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
-SIZING = str(Path(sys.executable).with_name("sizing"))
 KN = 1852.0 / 3600.0          # m/s per knot, exact by definition
 
 BASE = """title: {title}
@@ -85,7 +84,7 @@ def test_closure_failure_is_explained_in_words(tmp_path):
     # from memory): with empty 0.52 + fuel 0.49 = 1.01 nothing is left for the payload
     f = tmp_path / "closure.yaml"
     f.write_text(text_of(CLOSURE, empty=0.52, fuel=0.49))
-    r = subprocess.run([SIZING, "solve", "--json", str(f)], capture_output=True, text=True, timeout=60)
+    r = run_cli("solve", "--json", f)
     assert r.returncode == 3, r.stderr
     out = json.loads(r.stdout)
     assert out["status"] == "infeasible" and out["design"] is None and out["drivers"] == []
@@ -95,7 +94,7 @@ def test_closure_failure_is_explained_in_words(tmp_path):
     inf = out["infeasibility"]
     assert inf["conflicts"] == [] and inf["relaxations"] == {}
     assert "empty 0.52 + fuel 0.49 of takeoff mass leave nothing for crew and payload" in inf["explanation"]
-    r = subprocess.run([SIZING, "solve", str(f)], capture_output=True, text=True, timeout=60)
+    r = run_cli("solve", f)
     assert r.returncode == 3 and "NO FEASIBLE DESIGN" in r.stdout and "empty 0.52 + fuel 0.49" in r.stdout
     assert "Design point" not in r.stdout
 
@@ -346,7 +345,8 @@ def _apply(data, rid, rel):
     r[rel["field"]] = value if unit in ("Mach", "g", "") else f"{value!r} %" if unit == "%" else f"{value!r} {unit}"
 
 
-@settings(max_examples=40, deadline=None, derandomize=True,
+@pytest.mark.slow
+@settings(max_examples=40, deadline=None,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
 @given(seed=st.integers(0, 2 ** 32 - 1), harder=st.sampled_from([False, False, True]))
 def test_random_sets(seed, harder):

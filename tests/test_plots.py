@@ -27,9 +27,10 @@ from sizing.common.caution import CAUTION
 from sizing.problem import solve
 from sizing.inputs.spec import load, validate
 
+from .cliutil import run as run_cli
+
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
-SIZING = Path(sys.executable).parent / "sizing"
 SVG_NS = "{http://www.w3.org/2000/svg}"
 
 
@@ -247,8 +248,7 @@ def test_unknown_suffix_is_a_located_input_error(solved, tmp_path):
 def test_console_script_writes_svg_and_csv(tmp_path):
     src = ROOT / "requirements" / "regional-turboprop.yaml"
     out, data = tmp_path / "d.svg", tmp_path / "curves.csv"
-    p = subprocess.run([str(SIZING), "diagram", str(src), "-o", str(out), "--data", str(data)],
-                       capture_output=True, text=True, timeout=120)
+    p = run_cli("diagram", src, "-o", out, "--data", data)
     assert p.returncode == 0, p.stderr
     assert CAUTION in p.stdout
     spec = load(src)
@@ -256,8 +256,7 @@ def test_console_script_writes_svg_and_csv(tmp_path):
     for r in spec.requirements:
         assert any(t == r.id or t.startswith(r.id + " ") for t in texts), r.id
     _check_csv(spec, data.read_text(), every=30)
-    p = subprocess.run([str(SIZING), "diagram", str(src), "-o", str(tmp_path / "d.gif")],
-                       capture_output=True, text=True, timeout=120)
+    p = run_cli("diagram", src, "-o", tmp_path / "d.gif")
     assert p.returncode == 2 and "Traceback" not in p.stderr and ".png" in p.stderr
 
 

@@ -5,8 +5,6 @@ the input file (# common practice, no source) unless a source is named.
 """
 import base64
 import re
-import subprocess
-import sys
 from html.parser import HTMLParser
 from pathlib import Path
 
@@ -19,9 +17,10 @@ from sizing.reports.summary import cost_line
 from sizing.problem import solve
 from sizing.inputs.spec import load, validate
 
+from .cliutil import run as run_cli
+
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
-SIZING = Path(sys.executable).parent / "sizing"
 PNG = b"\x89PNG\r\n\x1a\n"      # Source: PNG signature, ISO/IEC 15948 §5.2
 
 
@@ -164,8 +163,7 @@ def test_markdown_tables_become_html_tables():
 
 def test_console_script_report(tmp_path):
     out = tmp_path / "review.md"
-    p = subprocess.run([str(SIZING), "report", str(ROOT / "requirements" / "regional-turboprop.yaml"),
-                        "-o", str(out)], capture_output=True, text=True, timeout=180)
+    p = run_cli("report", ROOT / "requirements" / "regional-turboprop.yaml", "-o", out)
     assert p.returncode == 0, p.stderr
     text = out.read_text()
     assert text.startswith("# ") and CAUTION in text and embedded_pngs(text)

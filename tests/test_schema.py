@@ -8,8 +8,6 @@ Schema can express. # common practice, no source
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from pathlib import Path
 
 import jsonschema
@@ -21,12 +19,13 @@ from sizing.inputs import aircraft, kinds, mission
 from sizing.inputs import schema as schema_models
 from sizing.inputs import spec as S
 
+from .cliutil import run as run_cli
+
 MODEL_MODULES = (aircraft, mission, kinds, schema_models)
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 BROKEN = ROOT / "tests" / "broken"
-SIZING = str(Path(sys.executable).with_name("sizing"))
 
 # Broken files whose defect the schema can see: key names, value types, the listed kinds,
 # models and engine types, the number-then-unit form, and the ranges the schema carries
@@ -53,7 +52,7 @@ NOT_EXPRESSIBLE = [
 
 @pytest.fixture(scope="module")
 def schema():
-    r = subprocess.run([SIZING, "schema"], capture_output=True, text=True, timeout=60)
+    r = run_cli("schema")
     assert r.returncode == 0, r.stderr
     return json.loads(r.stdout)
 

@@ -7,8 +7,6 @@ a study is a faster way to get the same answers.  # common practice, no source
 """
 import copy
 import math
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -20,10 +18,11 @@ from sizing.problem import solve
 from sizing.inputs.spec import load, validate
 from sizing.studies.runner import load_study, run_study
 
+from .cliutil import run as run_cli
+
 ROOT = Path(__file__).resolve().parents[1]
 TRAINER = ROOT / "requirements" / "trainer-jet.yaml"
 STUDIES = sorted((ROOT / "studies").glob("*.yaml"))
-SIZING = Path(sys.executable).with_name("sizing")
 
 # two parameters, 3 x 2 points; load factor 6.5 has no feasible design with this
 # trainer (checked below against the single solve, not assumed)
@@ -142,8 +141,7 @@ def test_sampling_is_reproducible_from_the_seed():
 @pytest.mark.parametrize("path", STUDIES, ids=[p.stem for p in STUDIES])
 def test_example_studies_run_reduced_through_the_console_script(path, tmp_path):
     out = tmp_path / "out"
-    r = subprocess.run([str(SIZING), "study", str(path), "-o", str(out), "--limit", "6"],
-                       capture_output=True, text=True, cwd=ROOT, timeout=120)
+    r = run_cli("study", path, "-o", out, "--limit", "6", cwd=ROOT)
     assert r.returncode == 0, r.stderr
     assert "CAUTION" in r.stdout and f"wrote {out / 'results.csv'}" in r.stdout
     t = pd.read_csv(out / "results.csv")
@@ -185,8 +183,7 @@ def test_invalid_path_or_value_is_a_located_error(tmp_path, body, line, words):
 def test_invalid_study_exits_2_through_the_console_script(tmp_path):
     f = tmp_path / "bad-study.yaml"
     f.write_text(f"base: {TRAINER}\nsweep:\n  requirements.field.ground_roll: {{from: 600 m, to: 900, steps: 4}}\n")
-    r = subprocess.run([str(SIZING), "study", str(f), "-o", str(tmp_path / "out")], capture_output=True,
-                       text=True, timeout=60)
+    r = run_cli("study", f, "-o", tmp_path / "out")
     assert r.returncode == 2
     assert f"{f}:3:" in r.stderr and "Traceback" not in r.stderr
     assert not (tmp_path / "out").exists()        # rejected before any solve or output

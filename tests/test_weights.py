@@ -175,6 +175,7 @@ def mission_sets(draw):
     return d
 
 
+@pytest.mark.slow
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(mission_sets())
 def test_coupled_mission_solve_against_brute_force(data):
