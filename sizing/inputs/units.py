@@ -14,6 +14,8 @@ import re
 from dataclasses import dataclass
 from functools import lru_cache
 
+from . import unit_table
+
 G0 = 9.80665  # standard gravity [m/s^2], converts mass-based to weight-based units
 
 
@@ -156,6 +158,9 @@ def _parse(value, dimension: str) -> Quantity:
         raise UnitError(f"{short_repr(value)} is not a finite number (too large for a {dim.name})")
     if not unit_text:
         raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
+    entry = unit_table.lookup(unit_text, difference=dimension == "temperature_difference")
+    if entry is not None:     # a unit pint defines, written out (no pint import)
+        return _from_table(value, text, unit_text, mag_user, entry, dim)
     ureg = registry()
     try:
         u = ureg.parse_units(unit_text)
@@ -192,6 +197,23 @@ def _parse(value, dimension: str) -> Quantity:
             return Quantity(mag, text, unit_text, one * factor)
     raise UnitError(f"{value!r} is {_dimension_words(base.dimensionality)}, not a {dim.name}; "
                     f"write it like {dim.examples}")
+
+
+def _from_table(value, text, unit_text, mag_user, entry, dim) -> Quantity:
+    """parse() for a unit of :mod:`.unit_table`: what pint gives, without pint."""
+    factor, dims = entry
+    if dims == "dimensionless":
+        raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
+    for spec, f in dim.accepts:
+        if dims == unit_table.ACCEPTS[spec]:
+            try:
+                mag = float(mag_user * factor) * f
+            except OverflowError:
+                mag = math.inf
+            if not math.isfinite(mag):
+                raise UnitError(f"{value!r} is not a finite number")
+            return Quantity(mag, text, unit_text, float(factor) * f)
+    raise UnitError(f"{value!r} is {_dimension_words(dims)}, not a {dim.name}; write it like {dim.examples}")
 
 
 def _as_difference(ureg, u):
