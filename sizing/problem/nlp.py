@@ -91,6 +91,7 @@ class Problem:
 
         self.scan_found_design = True
         self._solver_infeasible = None
+        self._last_scan = None
         self._build()
         self.build_time = time.perf_counter() - t0
 
@@ -250,8 +251,11 @@ class Problem:
         """Best point of a coarse numpy scan over W/S (the spreadsheet way), clipped to the
         bounds; sets :attr:`scan_found_design` (see :func:`sizing.problem.start.scan`)."""
         stop.check()        # a stop request CasADi swallowed during a solve before this scan
-        x0, self.scan_found_design = scan(self, p, n)
-        return x0
+        key = (np.asarray(p, dtype=float).tobytes(), n)
+        if self._last_scan is None or self._last_scan[0] != key:     # the same scan is asked for twice
+            self._last_scan = (key, *scan(self, p, n))                # when a warm start failed
+        _key, x0, self.scan_found_design = self._last_scan
+        return x0.copy()
 
     # --------------------------------------------------------------------- solve
     def solve_raw(self, p=None, x0=None, lam_g0=None, lam_x0=None):
@@ -303,11 +307,14 @@ class Problem:
         return last
 
     def _expecting_infeasible(self):
-        """IPOPT told to expect an infeasible problem (quicker certificate); built on first use."""
+        """IPOPT told to expect an infeasible problem (quicker certificate), with a monotone
+        barrier (on the trainer's Monte Carlo it certified every infeasible point, in at
+        most 183 iterations, where the adaptive one ran out of its 500); built on first use."""
         if self._solver_infeasible is None:
             nlp = {"x": self._x, "p": self._P, "f": self._f_expr, "g": self._g_expr}
             self._solver_infeasible = ca.nlpsol("sizing_infeasible", "ipopt", nlp,
-                                                {**IPOPT_OPTIONS, "ipopt.expect_infeasible_problem": "yes"})
+                                                {**IPOPT_OPTIONS, "ipopt.expect_infeasible_problem": "yes",
+                                                 "ipopt.mu_strategy": "monotone"})
         return self._solver_infeasible
 
     def _finer_scan_finds_design(self, p) -> bool:

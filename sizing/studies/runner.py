@@ -23,6 +23,7 @@ from ..inputs.spec import validate
 from ..physics.atmosphere import g0 as G0
 from ..problem import ACTIVE_TOL, VERIFY_TOL, Problem
 from ..problem import tree as M
+from ..problem.continuation import Continuation
 from ..problem.nlp import IPOPT_OPTIONS
 from .definition import Study, load_study
 
@@ -40,7 +41,7 @@ _INFEASIBLE_RETURNS = {"Infeasible_Problem_Detected", "Solve_Succeeded", "Solved
 # The study's own solver for the step from a neighbour: the Problem's NLP and
 # tolerances with IPOPT's warm-start options, a monotone barrier started small and
 # an iteration cap; a step that does not settle goes to Problem.solve_raw instead.
-WARM_MAX_ITER = 60
+WARM_MAX_ITER = 20     # a settling step takes 4 to 15 (trainer Monte Carlo); more means trouble
 _WARM_OPTIONS = {"ipopt.warm_start_init_point": "yes", "ipopt.warm_start_bound_push": 1e-10,
                  "ipopt.warm_start_mult_bound_push": 1e-10, "ipopt.mu_strategy": "monotone",
                  "ipopt.mu_init": 1e-8, "ipopt.max_iter": WARM_MAX_ITER}
@@ -64,6 +65,7 @@ class _Context:
         self.base_warm = (x, lg, lx) if ok else None
         nlp = {"x": prob.x_sym, "p": prob.p_sym, "f": prob.f_sym, "g": prob.g_sym}
         self.warm_solver = ca.nlpsol("study_warm", "ipopt", nlp, {**IPOPT_OPTIONS, **_WARM_OPTIONS})
+        self.continuation = Continuation(prob)
         self.weight_fraction = {rid: prob.paths.index(("requirements", rid, "weight_fraction"))
                                 for rid in prob.req_ids if ("requirements", rid, "weight_fraction") in prob.paths}
 
@@ -121,27 +123,35 @@ def _rows_ok(prob, vals, tol_closure=1e-6, tol=None) -> np.ndarray:
 def _solve_point(ctx, p, warm):
     """(code, x, warm data or None, iterations, checked in numpy) for one point.
 
-    One warm-started step from the neighbour, accepted when IPOPT succeeds and
-    every constraint row holds (CasADi rows; the plain-numpy check follows for
-    the whole chunk, :func:`_verify_chunk`). Otherwise every starting point of a
-    single solve (Problem.solve_raw, verified in numpy): a point called
-    infeasible is one ``sizing solve`` calls infeasible too. With
-    ``confirm_infeasible=False``: infeasible when the step fails and the
-    single solve's coarse W/S scan (Problem.start_point) finds no design.
+    One step from the neighbour (Newton on its active set, :class:`~sizing.problem.
+    continuation.Continuation`, else IPOPT warm-started), accepted when every
+    constraint row holds (CasADi rows; the plain-numpy check follows for the whole
+    chunk, :func:`_verify_chunk`). Otherwise every starting point of a single solve
+    (Problem.solve_raw, verified in numpy): a point called infeasible is one
+    ``sizing solve`` calls infeasible too. IPOPT's warm step is skipped when the
+    coarse W/S scan (Problem.start_point) finds no design: the single solve starts
+    from that scan. With ``confirm_infeasible=False``: infeasible when the step fails
+    and that scan finds no design.
     """
     prob, iters, x = ctx.prob, 0, None
     if warm is not None:
-        solver = ctx.warm_solver
-        sol = solver(x0=warm[0], p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg,
-                     lam_g0=warm[1], lam_x0=warm[2])
-        st = solver.stats()
-        iters, x = st.get("iter_count", 0) or 0, np.array(sol["x"]).ravel()
-        if st.get("return_status") in _SUCCESS and _rows_ok(prob, _rows(prob, x, p)):
-            return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
-        if not ctx.confirm:
-            guess = prob.start_point(p)
-            if not _rows_ok(prob, _rows(prob, guess, p), 1e-3, 1e-3):
-                return 1, x, None, iters, True
+        # Newton on the neighbour's active set first (a few steps when the same requirements
+        # stay active or a few swap), then IPOPT from the neighbour, but only while the
+        # coarse W/S scan finds a design: else the single solve below decides from that scan
+        step = ctx.continuation.step(*warm, p)
+        if step is not None and _rows_ok(prob, _rows(prob, step[0], p)):
+            return 0, step[0], step[:3], step[3], False
+        guess = prob.start_point(p)
+        if prob.scan_found_design:
+            solver = ctx.warm_solver
+            sol = solver(x0=warm[0], p=p, lbx=prob.lbx, ubx=prob.ubx, lbg=prob.lbg, ubg=prob.ubg,
+                         lam_g0=warm[1], lam_x0=warm[2])
+            st = solver.stats()
+            iters, x = st.get("iter_count", 0) or 0, np.array(sol["x"]).ravel()
+            if st.get("return_status") in _SUCCESS and _rows_ok(prob, _rows(prob, x, p)):
+                return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
+        if not ctx.confirm and not _rows_ok(prob, _rows(prob, guess, p), 1e-3, 1e-3):
+            return 1, x, None, iters, True
     x, lg, lx, st, ok = prob.solve_raw(p)
     iters += st.get("iter_count", 0) or 0
     if ok:
