@@ -41,21 +41,30 @@ class Continuation:
         grad = ca.gradient(lag, x)
         hess = ca.jacobian(grad, x)
         jac = ca.jacobian(g, x)
-        self._kkt = ca.Function("kkt", [x, p, lam], [grad, hess, jac, g])
+        n, m = x.shape[0], g.shape[0]
+        # one dense output vector (one conversion to numpy per evaluation): the gradient of
+        # the Lagrangian, its Hessian and the rows' Jacobian (column-major), the rows
+        # (x and the multipliers in one input, the parameters converted once per point: a
+        # conversion from numpy costs more than the evaluation)
+        self._kkt = ca.Function("kkt", [ca.vertcat(x, lam), p],
+                                [ca.vertcat(grad, ca.vec(ca.densify(hess)), ca.vec(ca.densify(jac)), g)])
+        self._cuts = np.cumsum([n, n * n, m * n])
+        self._n, self._m = n, m
         self.depends = np.array(ca.DM(jac.sparsity(), 1)).astype(bool)               # rows x unknowns
         self.objective_depends = np.array(ca.DM(ca.jacobian(f, x).sparsity(), 1)).ravel().astype(bool)
         self.lbx, self.ubx, self.lbg, self.ubg = prob.lbx, prob.ubx, prob.lbg, prob.ubg
         self.equality = np.asarray(self.lbg == self.ubg)
 
     def step(self, x0, lam_g0, lam_x0, p):
-        """(x, lam_g, lam_x, Newton steps) at parameters p from a neighbour's solution
-        (x0, lam_g0, lam_x0), or None when the step does not prove itself.
+        """(x, lam_g, lam_x, Newton steps, constraint rows at x) at parameters p from a
+        neighbour's solution (x0, lam_g0, lam_x0), or None when the step does not prove itself.
 
         When the converged point violates a row the neighbour left inactive, that row joins
         the active set; when an active row's multiplier has the wrong sign, it leaves; then
         Newton runs again (at most :data:`SWAPS` such changes)."""
         x = np.array(x0, dtype=float)
         lam_g0, lam_x0 = np.asarray(lam_g0, dtype=float), np.asarray(lam_x0, dtype=float)
+        p = ca.DM(np.asarray(p, dtype=float))
         active = self.equality | (np.abs(lam_g0) > ACTIVE_MULTIPLIER)
         at_bound = np.abs(lam_x0) > ACTIVE_MULTIPLIER
         x[at_bound] = np.where(lam_x0[at_bound] < 0, self.lbx[at_bound], self.ubx[at_bound])
@@ -86,7 +95,7 @@ class Continuation:
             A = np.flatnonzero(active)
             if not self._proves_itself(x, lam, lam_x, g, hess[np.ix_(F, F)], jac[np.ix_(A, F)], active, at_bound):
                 return None
-        return x, lam, lam_x, steps
+        return x, lam, lam_x, steps, g
 
     def _moving(self, active, at_bound):
         return ~at_bound & (self.objective_depends | self.depends[active].any(axis=0))
@@ -97,16 +106,19 @@ class Continuation:
         x, lam = x.copy(), lam.copy()
         A, F = np.flatnonzero(active), np.flatnonzero(self._moving(active, at_bound))
         nf = F.size
+        FF, AF = np.ix_(F, F), np.ix_(A, F)
+        K = np.zeros((nf + A.size, nf + A.size))
         for n in range(1, MAX_STEPS + 1):
-            grad, hess, jac, g = (np.array(v, dtype=float) for v in self._kkt(x, p, lam))
-            grad, g = grad.ravel(), g.ravel()
+            grad, hess, jac, g = self._evaluate(x, p, lam)
             r = np.concatenate([grad[F], g[A] - self.lbg[A]])
             if not np.all(np.isfinite(r)):
                 return None
             if np.max(np.abs(r), initial=0.0) <= KKT_TOL:
                 return x, lam, grad, hess, jac, g, n
-            J = jac[np.ix_(A, F)]
-            K = np.block([[hess[np.ix_(F, F)], J.T], [J, np.zeros((A.size, A.size))]])
+            J = jac[AF]
+            K[:nf, :nf] = hess[FF]
+            K[:nf, nf:] = J.T
+            K[nf:, :nf] = J
             try:
                 dz = np.linalg.solve(K, -r)
             except np.linalg.LinAlgError:
@@ -114,6 +126,12 @@ class Continuation:
             x[F] += dz[:nf]
             lam[A] += dz[nf:]
         return None
+
+    def _evaluate(self, x, p, lam):
+        """(gradient of the Lagrangian, its Hessian, the rows' Jacobian, the rows) at (x, p, lam)."""
+        v = np.array(self._kkt(ca.DM(np.concatenate([x, lam])), p).nonzeros())
+        grad, hess, jac, g = np.split(v, self._cuts)
+        return grad, hess.reshape(self._n, self._n, order="F"), jac.reshape(self._m, self._n, order="F"), g
 
     def _proves_itself(self, x, lam, lam_x, g, H, J, active, at_bound) -> bool:
         if np.any(g[~active] > self.ubg[~active] + 1e-9):

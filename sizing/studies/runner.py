@@ -52,8 +52,6 @@ class _Context:
     """A worker's problem for one base file (built once), its solved base point."""
 
     def __init__(self, job):
-        import casadi as ca
-
         spec = validate(copy.deepcopy(job["data"]), job["filename"])
         # a fresh Problem, not the structure cache: its scaling comes from the base
         # file in every process, so every executor solves the very same problem
@@ -63,11 +61,21 @@ class _Context:
         self.confirm = bool(job.get("confirm", True))
         x, lg, lx, _st, ok = prob.solve_raw(self.p0)
         self.base_warm = (x, lg, lx) if ok else None
-        nlp = {"x": prob.x_sym, "p": prob.p_sym, "f": prob.f_sym, "g": prob.g_sym}
-        self.warm_solver = ca.nlpsol("study_warm", "ipopt", nlp, {**IPOPT_OPTIONS, **_WARM_OPTIONS})
+        self._warm_solver = None
         self.continuation = Continuation(prob)
         self.weight_fraction = {rid: prob.paths.index(("requirements", rid, "weight_fraction"))
                                 for rid in prob.req_ids if ("requirements", rid, "weight_fraction") in prob.paths}
+
+    @property
+    def warm_solver(self):
+        """IPOPT warm-started from a neighbour (built on first use: most steps are Newton's)."""
+        if self._warm_solver is None:
+            import casadi as ca
+
+            prob = self.prob
+            nlp = {"x": prob.x_sym, "p": prob.p_sym, "f": prob.f_sym, "g": prob.g_sym}
+            self._warm_solver = ca.nlpsol("study_warm", "ipopt", nlp, {**IPOPT_OPTIONS, **_WARM_OPTIONS})
+        return self._warm_solver
 
     def params(self, values):
         p = self.p0.copy()
@@ -89,10 +97,11 @@ def _rows(prob, x, p):
     return prob.constraint_values(x, p)[0]
 
 
-def _drivers(ctx, x, p):
-    """Active requirements from the constraint rows, by the rule of Problem.package."""
+def _drivers(ctx, x, p, g=None):
+    """Active requirements from the constraint rows (given, or evaluated at x), by the rule of
+    Problem.package."""
     prob = ctx.prob
-    g = _rows(prob, x, p)
+    g = _rows(prob, x, p) if g is None else g
     W_S, Y = x[0] * prob.WS_scale, x[1] * prob.Y_scale
     worst = {}
     for (rid, what), v in zip(prob.rows, g):
@@ -138,9 +147,9 @@ def _solve_point(ctx, p, warm):
         # Newton on the neighbour's active set first (a few steps when the same requirements
         # stay active or a few swap), then IPOPT from the neighbour, but only while the
         # coarse W/S scan finds a design: else the single solve below decides from that scan
-        step = ctx.continuation.step(*warm, p)
-        if step is not None and _rows_ok(prob, _rows(prob, step[0], p)):
-            return 0, step[0], step[:3], step[3], False
+        step = ctx.continuation.step(*warm[:3], p)
+        if step is not None and _rows_ok(prob, step[4]):
+            return 0, step[0], step[:3] + (step[4],), step[3], False
         guess = prob.start_point(p)
         if prob.scan_found_design:
             solver = ctx.warm_solver
@@ -187,7 +196,7 @@ def _run_chunk(job, chunk):
     X = np.full((n, len(prob.lbx)), np.nan)
     checked = np.zeros(n, dtype=bool)
     iters = np.zeros(n, dtype=np.int64)
-    done, warms = [], []
+    done, warms, rows = [], [], [None] * n        # rows: the constraint rows where a step gave them
     for i in range(n):
         warm = warms[int(np.argmin(np.sum((Z[done] - Z[i]) ** 2, axis=1)))] if done else ctx.base_warm
         try:
@@ -198,6 +207,7 @@ def _run_chunk(job, chunk):
             X[i] = x
             done.append(i)
             warms.append(w)
+            rows[i] = w[3] if len(w) > 3 else None
     # the numpy check of what the warm step accepted; a point that fails it is solved
     # again from scratch (Problem.solve_raw checks in numpy itself)
     todo = np.flatnonzero((code == 0) & ~checked)
@@ -206,12 +216,13 @@ def _run_chunk(job, chunk):
         iters[i] += st.get("iter_count", 0) or 0
         code[i] = 0 if ok else (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2)
         X[i] = x if ok else np.nan
+        rows[i] = None
     out = np.full((n, 4), np.nan)
     drivers = [""] * n
     for i in np.flatnonzero(code == 0):
         W_S, Y, m = X[i, 0] * prob.WS_scale, X[i, 1] * prob.Y_scale, X[i, 2] * prob.m_ref
         out[i] = (W_S, Y, m, m * G0 / W_S)
-        drivers[i] = ";".join(_drivers(ctx, X[i], ctx.params(P[i])))
+        drivers[i] = ";".join(_drivers(ctx, X[i], ctx.params(P[i]), rows[i]))
     return {"chunk": cid, "idx": np.asarray(idx), "code": code, "out": out, "drivers": drivers,
             "iterations": iters, "fallbacks": int(checked.sum()), "seconds": time.perf_counter() - t0}
 
