@@ -12,10 +12,14 @@ Measures, prints side by side and writes bench/RESULTS.md:
 (b) a 1,000-point two-parameter sweep, serial and on 2 local processes;
 (c) a 10,000-sample Monte Carlo on 2 local processes;
 and the problem build time, the per-solve time of a built 10-requirement
-problem and the wall time of a cold ``sizing solve``.
+problem and the wall time of a cold ``sizing solve``; then (d) the speed
+targets measured before and after in one run (``bench/paired.py``: an
+earlier commit and this tree, alternating, so that both see the same load).
 
 The machine is shared: the load average before and after is recorded with
 the figures. Wall-clock times; medians where a measurement is repeated.
+
+    .venv/bin/python bench/run.py [--before REF] [--quick]   # --quick: (d) only
 """
 from __future__ import annotations
 
@@ -242,7 +246,7 @@ def bench_solve(spec):
         full.append(_now() - t)
     t = _now()
     for _ in range(10):
-        prob.initial_guess(p0)
+        prob.start_point(np.array(p0) * (1 + 1e-12 * _))      # a new point each time (the scan is remembered)
     t_guess = (_now() - t) / 10
     return {"requirements": len(spec.requirements), "build": statistics.median(builds), "guess": t_guess,
             "cold": statistics.median(cold), "warm": t_warm, "warm_iters": float(np.mean(iters)),
@@ -359,7 +363,7 @@ def bench_mc(count=10_000):
             f"tried), so that a study's verdicts are those of `sizing solve`. That costs about {_ms(per)} of "
             f"CPU per infeasible point, {_ms(conf['solve'] - quick['solve'])} of the {_ms(conf['solve'])} here, "
             f"and {verdict} the 30 s target. With `confirm_infeasible=False` a point is called infeasible when "
-            f"the warm start from its neighbour fails and the coarse W/S scan (`Problem.initial_guess`) finds "
+            f"the step from its neighbour fails and the coarse W/S scan (`Problem.start_point`) finds "
             f"no closed design: {_ms(quick['wall'])}, with {out['status_mismatches']} points classed "
             f"differently in this run.")
     return out
@@ -379,12 +383,48 @@ def _mark(ok):
     return "met" if ok else "**missed**"
 
 
+def bench_make_test(runs=(("CI unset", {}), ("CI=true", {"CI": "true"}))):
+    """`make test` in a fresh clone of this repository (its own .venv), once per environment."""
+    import shutil
+    import tempfile
+
+    out = []
+    with tempfile.TemporaryDirectory(prefix="sizing-clone-") as tmp:
+        clone = Path(tmp) / "clone"
+        subprocess.run(["git", "clone", "-q", str(ROOT), str(clone)], check=True)
+        env0 = {k: v for k, v in os.environ.items() if k not in ("CI", "VIRTUAL_ENV", "PYTHONPATH")}
+        subprocess.run(["make", ".venv/.installed"], cwd=clone, check=True, capture_output=True, env=env0)
+        for label, extra in runs:
+            load = _load()
+            t = _now()
+            r = subprocess.run(["make", "test"], cwd=clone, capture_output=True, text=True, env={**env0, **extra})
+            tail = [ln for ln in r.stdout.splitlines() if " passed" in ln or " failed" in ln][-1:]
+            out.append({"label": label, "wall": _now() - t, "ok": r.returncode == 0, "summary": "".join(tail),
+                        "load_before": load, "load_after": _load()})
+        shutil.rmtree(clone / ".venv", ignore_errors=True)
+    return out
+
+
 def main():
+    import argparse
+
     import casadi
 
+    import paired
+
+    ap = argparse.ArgumentParser(description="sizing benchmarks")
+    ap.add_argument("--before", default=paired.BEFORE, help="the commit to compare with (d)")
+    ap.add_argument("--quick", action="store_true", help="only (d), the before/after pairs")
+    ap.add_argument("--make-test", action="store_true", help="also time `make test` in a fresh clone (minutes)")
+    args = ap.parse_args()
     print("sizing benchmarks (wall clock; the machine is shared, load average recorded)")
     load0 = _load()
     t0 = _now()
+    if args.quick:
+        pair = paired.compare(args.before, log=print)
+        for _n, label, b, a, ratio, target in paired.summary_rows(pair):
+            print(f"{label}: before {_ms(b)}, after {_ms(a)}, {ratio:.1f}x  (target {target})")
+        return
     spec10 = ten_requirements()
     trainer = load(TRAINER)
 
@@ -409,15 +449,13 @@ def main():
     cli = bench_cold_cli()
     s10 = solves[-1]
     NOTES.append(
-        f"- Per-solve time: the study's warm step (IPOPT warm-started from the neighbouring answer, "
-        f"{s10['warm_iters']:.1f} iterations on average, constraint rows checked, numpy check batched per chunk) "
-        f"takes {_ms(s10['warm'] + s10['verify'])} for {s10['requirements']} requirements. A solve from scratch "
-        f"(`Problem.solve_raw` without a start) takes {_ms(s10['cold'])}, over the 5 ms target: "
-        f"{_ms(s10['guess'])} of it is the numpy W/S scan for the starting point (`initial_guess`), which "
-        f"`solve_raw` computes only when no start is given or the given one fails. "
-        f"`Problem.solve` and `sizing.solve.solve` ({_ms(s10['full'])}) add the result packaging: the margins "
-        f"in the requirements' own terms are found by bisection per requirement (`sizing/terms.py`), which "
-        f"is most of that time; studies do not call it.")
+        f"- Per-solve time: the study's step (Newton on the neighbour's active set, "
+        f"{s10['warm_iters']:.1f} Newton or IPOPT iterations on average, constraint rows checked, numpy check "
+        f"batched per chunk) takes {_ms(s10['warm'] + s10['verify'])} for {s10['requirements']} requirements. A "
+        f"solve from scratch (`Problem.solve_raw` without a start) takes {_ms(s10['cold'])}, of which "
+        f"{_ms(s10['guess'])} is the numpy W/S scan for the starting point (`Problem.start_point`). "
+        f"`sizing.solve.solve` ({_ms(s10['full'])}) adds the result packaging: the margins in the requirements' "
+        f"own terms (a staged search per requirement, `sizing/problem/capability.py`), the costs and texts.")
     NOTES.append(
         "- (a) The solver runs IPOPT with `bound_relax_factor` 0, so active requirement rows end on their "
         "boundary rather than 1e-8 past it; its remaining error is IPOPT's tolerance (1e-10).")
@@ -445,16 +483,59 @@ def main():
                                                 for _, v in rows_mc))
     print(f"    {'not settled':18}" + "".join(f"{v['fallbacks']:>22,}" for _, v in rows_mc))
     print(f"    status mismatches between the two: {mc['status_mismatches']}")
+    print(f"\n(d) before ({args.before}) and after (this tree), alternating, in fresh interpreters")
+    pair = paired.compare(args.before, log=print)
+    mt = []
+    if args.make_test:
+        print("\n(e) `make test` in a fresh clone")
+        mt = bench_make_test()
+        for m in mt:
+            print(f"  {m['label']}: {_ms(m['wall'])}, {m['summary']} (load {m['load_before']})")
     load1 = _load()
     total = _now() - t0
     print(f"\nload average before {load0}, after {load1}; benchmarks took {total:.0f} s")
 
-    write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi.__version__)
+    write_results(grids, solves, cli, sw, mc, pair, mt, args.before, load0, load1, total, casadi.__version__)
     print(f"wrote {ROOT / 'bench' / 'RESULTS.md'}")
     print(CAUTION)
 
 
-def write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi_version):
+def _speed_targets(pair, mt, before):
+    """The issue's speed targets: before, after and their ratio from one run (bench/paired.py)."""
+    import paired
+
+    rows = {name: (label, b, a, ratio, target) for name, label, b, a, ratio, target in paired.summary_rows(pair)}
+    limit = {"solve10": 0.025, "raw10": 0.003, "build10": 0.020, "cli": 0.5, "sweep": 0.4, "mc": 6.0}
+    L = ["## Speed targets: before and after in one run", "",
+         f"Each line is the median of the pairs `bench/paired.py` ran: commit `{before}` (before this round's "
+         f"speed work) and this tree, each measurement in a fresh interpreter, the two alternating so that "
+         f"both met the same load. The ratio is before / after. Targets are for a quiet 2-core machine; "
+         f"this one was shared (load averages above), which slows both sides alike.", "",
+         "| measure | before | after | before / after | target | |", "|---|---|---|---|---|---|"]
+    for name, (label, b, a, ratio, target) in rows.items():
+        if name == "imports":
+            continue
+        ok = a <= limit[name]
+        extra = ""
+        if name == "cli" and "imports" in rows:
+            floor = rows["imports"][2]
+            ok = ok and a <= 1.6 * floor
+            extra = f" ({a / floor:.1f}x the {_ms(floor)} of `import numpy, casadi`)"
+        L.append(f"| {label} | {_ms(b)} | {_ms(a)}{extra} | {ratio:.1f}x | {target} | {_mark(ok)} |")
+    for m in mt:
+        L.append(f"| `make test`, fresh clone, {m['label']} | | {_ms(m['wall'])}: {m['summary'] or 'see log'} "
+                 f"(load {m['load_before']}) | | 4 min or less, passes | {_mark(m['ok'] and m['wall'] <= 240)} |")
+    extra = {k: v for k, v in pair.items() if k not in rows}
+    if "mc" in rows:
+        for side in ("before", "after"):
+            f, p50 = extra.get("feasible", {}).get(f"{side}_feasible"), extra.get("p50", {}).get(f"{side}_p50")
+            if f is not None:
+                L.append("")
+                L.append(f"Monte Carlo {side}: P(feasible) {100 * f:.2f} %, median takeoff mass {p50:,.0f} kg.")
+    return L
+
+
+def write_results(grids, solves, cli, sw, mc, pair, mt, before, load0, load1, total, casadi_version):
     g10 = grids[-1]
     s10 = solves[-1]
     par = sw[f"{WORKERS} processes"]
@@ -470,7 +551,9 @@ def write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi_versio
         f"{load0} before and {load1} after (1, 5, 15 min); timings on a quiet machine are lower. "
         f"All figures below are what this run measured; rerun `make bench` to refresh them.",
         "",
-        "## Targets",
+        *_speed_targets(pair, mt, before),
+        "",
+        "## Accuracy and the earlier limits (this tree)",
         "",
         "| measure | measured | target | |",
         "|---|---|---|---|",
@@ -517,7 +600,7 @@ def write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi_versio
           f"{g10['m_solver']:,.3f} kg (10-requirement file). The grid's error is its step (amplified in mass "
           f"by the weight closure); the solver's is explained in the notes below.", "",
           "## Build and per-solve time", "",
-          "| requirements | build | `solve_raw` from scratch | study warm step (IPOPT iterations) | numpy check "
+          "| requirements | build | `solve_raw` from scratch | study step (Newton or IPOPT iterations) | numpy check "
           "per point (batched) | `Problem.solve` packaged, no sensitivities | `sizing.solve.solve` |",
           "|---|---|---|---|---|---|---|"]
     for s in solves:
@@ -529,7 +612,7 @@ def write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi_versio
           "`requirements.turn-4g.load_factor` 3.0 to 5.0 (40 steps) x `requirements.field.ground_roll` "
           "550 m to 950 m (25 steps) on the trainer; wall time of `run_study` including starting the worker "
           "processes.", "",
-          "| | wall | solving | per point | feasible | IPOPT iterations per point | not settled by the warm step |",
+          "| | wall | solving | per point | feasible | Newton or IPOPT iterations per point | not settled by the step |",
           "|---|---|---|---|---|---|---|"]
     for k, v in sw.items():
         if isinstance(v, dict):
@@ -538,8 +621,8 @@ def write_results(grids, solves, cli, sw, mc, load0, load1, total, casadi_versio
     L += ["", f"Serial and parallel tables identical: {sw['identical']}.", "",
           "## (c) 10,000-sample Monte Carlo", "",
           f"`{MC_STUDY.relative_to(ROOT)}` with count 10,000, {WORKERS} processes.", "",
-          "| infeasible points | wall | P(feasible) | P5 / P50 / P95 takeoff mass | IPOPT iterations per point "
-          "| not settled by the warm step |", "|---|---|---|---|---|---|"]
+          "| infeasible points | wall | P(feasible) | P5 / P50 / P95 takeoff mass | Newton or IPOPT iterations per "
+          "point | not settled by the step |", "|---|---|---|---|---|---|"]
     for k, v in mc.items():
         if isinstance(v, dict):
             L.append(f"| {k} | {_ms(v['wall'])} | {100 * v['feasible']:.2f} % | {v['p5']:,.0f} / {v['p50']:,.0f} / "
