@@ -1,7 +1,8 @@
 """The study's quick step (Newton on the neighbour's active set, sizing/problem/continuation.py)
 against IPOPT solving each point from scratch.  # common practice, no source: the step solves
 the first-order conditions of an active set (Nocedal and Wright, Numerical Optimization, 2nd
-ed., Theorem 12.1), so where it is taken it must land on the optimizer's own answer.
+ed., Theorem 12.1; docs/references.md §17.12, check 17.12-a), so where it is taken it must
+land on the optimizer's own answer.
 """
 from pathlib import Path
 

@@ -4,8 +4,9 @@ Lives here: ``tree`` (the SI tree, its parameters, the physics views),
 ``nlp`` (the built CasADi/IPOPT problem and its public interface), ``start``
 (the starting-point scan), ``package`` (active set, margins, sensitivities
 -> ``Result``), ``capability`` (each requirement in its own terms),
-``diagnose`` (infeasible sets: conflicts and relaxations) and ``result``
-(the frozen result types).
+``diagnose`` (infeasible sets: conflicts and relaxations), ``continuation``
+(a study's Newton step from a solved neighbour) and ``result`` (the frozen
+result types).
 May import: ``sizing.inputs``, ``sizing.constraints``, ``sizing.weights``,
 ``sizing.physics``, ``sizing.common`` (and ``sizing.charts`` lazily, for
 ``Result.diagram()``).
