@@ -8,7 +8,7 @@ import numpy as np
 
 from sizing import constraints as C
 from sizing.problem import tree as M
-from sizing.problem.capability import HARDER
+from sizing.problem.capability import HARDER, MARGIN_RTOL
 
 
 def margin_at(r, tree, W_S, Y, beta):
@@ -16,7 +16,7 @@ def margin_at(r, tree, W_S, Y, beta):
     ac = M.aircraft(tree)
     req = M.requirement(r, ac, beta)
     with np.errstate(all="ignore"):
-        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=48)
+        thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=48, rtol=MARGIN_RTOL)
     margins = []
     if thrust is not None:
         t = float(thrust[0])

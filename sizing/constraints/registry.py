@@ -172,7 +172,7 @@ def max_free_speed(ac, air):
     return V
 
 
-def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None):
+def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None, level=None):
     """Numpy curve of a requirement over an array of wing loadings.
 
     Returns (thrust, wing_loading_limit, best_speed): required T_SL/W_TO (or
@@ -186,10 +186,15 @@ def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None):
     limit, then ``refine`` speeds between the neighbours of the best one,
     again until the thrust at the bracket's ends is within ``rtol`` (default
     :data:`THRUST_RTOL`) of the best (or the bracket is below :data:`SPEED_RTOL`
-    of the speed).
-    A minimum on an edge of the window (stall, speed limit) or at a kink of
-    the lapse stays in the bracket, as every scan includes its ends; a smooth
-    minimum takes four scans, a kink a few more.
+    of the speed). A minimum on an edge of the window (stall, speed limit) or
+    at a kink of the lapse stays in the bracket, as every scan includes its
+    ends; a smooth minimum takes four scans, a kink a few more.
+
+    ``level`` (a thrust, or one per wing loading) asks only which side of it the
+    minimum lies: a point stops being refined once its best thrust is below the
+    level, or once even the bracket's slopes extended past its ends (a lower
+    bound where the curve is convex there) stay above it; its value is then the
+    best found so far, on the right side of the level.
     """
     W_S = np.atleast_1d(np.asarray(W_S, dtype=float))
     kind = KINDS[req.kind]
@@ -204,31 +209,43 @@ def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None):
     ok = V_hi >= V_lo
     # fields given per wing loading (a weight fraction per point of a mission, a value per
     # probe of a margin search) become columns for the (wing loading x speed) evaluation
-    cols = {k: v.reshape(-1)[:, None] for k, v in vars(req).items()
-            if isinstance(v, np.ndarray) and v.ndim and v.size > 1}
-    req2 = SimpleNamespace(**{**vars(req), **cols}) if cols else req
-    Wc = W_S[:, None]
+    cols = {k: v.reshape(-1) for k, v in vars(req).items() if isinstance(v, np.ndarray) and v.ndim and v.size > 1}
 
-    def f(V):
-        T = np.asarray(evaluate(req2, ac, Wc, V).thrust, float)
+    def f(V, live):
+        req2 = req
+        if cols:
+            req2 = SimpleNamespace(**{**vars(req), **{k: v[live][:, None] for k, v in cols.items()}})
+        T = np.asarray(evaluate(req2, ac, W_S[live][:, None], V).thrust, float)
         return np.where(np.isfinite(T) & (T > 0), T, np.inf)
 
     rtol = THRUST_RTOL if rtol is None else rtol
+    lev = None if level is None else np.broadcast_to(np.asarray(level, float), W_S.shape)
+    T_best = np.full(W_S.shape, np.inf)
+    V_best = np.array(V_lo, dtype=float)
+    live = np.arange(W_S.size)
     a, b = V_lo, np.maximum(V_hi, V_lo)
-    rows = np.arange(W_S.size)
     u = np.linspace(0.0, 1.0, samples)
     for _ in range(12):
         V = a[:, None] + u[None, :] * (b - a)[:, None]
         V[:, -1] = b                                     # the window's end exactly
-        T = f(V)
+        T = f(V, live)
+        rows = np.arange(live.size)
         j = np.argmin(T, axis=1)
         jl, jr = np.maximum(j - 1, 0), np.minimum(j + 1, u.size - 1)
-        V_best, T_best = V[rows, j], T[rows, j]
+        better = T[rows, j] < T_best[live]               # never worse than an earlier scan
+        T_best[live] = np.where(better, T[rows, j], T_best[live])
+        V_best[live] = np.where(better, V[rows, j], V_best[live])
         a, b = V[rows, jl], V[rows, jr]
+        Tb = T_best[live]
         with np.errstate(invalid="ignore"):
-            flat = np.maximum(T[rows, jl], T[rows, jr]) - T_best <= rtol * T_best
-        if np.all(flat | ~np.isfinite(T_best) | (b - a <= SPEED_RTOL * np.abs(V_best))):
+            spread = np.maximum(T[rows, jl], T[rows, jr]) - Tb
+            done = (spread <= rtol * Tb) | ~np.isfinite(Tb) | (b - a <= SPEED_RTOL * np.abs(V_best[live]))
+            if lev is not None:
+                done |= (Tb < lev[live] * (1 - 1e-12)) | (Tb - spread > lev[live] * (1 + 1e-12))
+        if np.all(done):
             break
+        keep = ~done
+        live, a, b = live[keep], a[keep], b[keep]
         u = np.linspace(0.0, 1.0, max(int(refine), 3))
     T_best = np.where(ok, T_best, np.inf)
     return T_best, None, V_best

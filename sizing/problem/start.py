@@ -58,7 +58,7 @@ def _scan_once(prob, tree, W, takeoff_mass):
         beta = seg_end.get(wf["after"], 1.0) if isinstance(wf, dict) else None
         req = M.requirement(r, ac, beta)
         with np.errstate(all="ignore"):
-            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60, rtol=1e-8)   # a start only
+            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60, rtol=1e-6)   # a start only
         if thrust is not None:
             Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
         if lim is not None:
