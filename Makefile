@@ -9,7 +9,7 @@ STAMP  := $(VENV)/.installed
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -e '.[test,dask]'
+	$(BIN)/python -m pip install --quiet --no-compile -e '.[test,dask]'    # modules compile on first import
 	touch $(STAMP)
 
 DEMO := requirements/trainer-jet.yaml
