@@ -383,8 +383,9 @@ def _mark(ok):
     return "met" if ok else "**missed**"
 
 
-def bench_make_test(runs=(("CI unset", {}), ("CI=true", {"CI": "true"}))):
-    """`make test` in a fresh clone of this repository (its own .venv), once per environment."""
+def bench_make_test(runs=(("CI unset, installing .venv first", {}), ("CI=true", {"CI": "true"}))):
+    """`make test` twice in a fresh clone of this repository: the first run creates its .venv
+    (as a newcomer's does), the second reuses it."""
     import shutil
     import tempfile
 
@@ -393,7 +394,6 @@ def bench_make_test(runs=(("CI unset", {}), ("CI=true", {"CI": "true"}))):
         clone = Path(tmp) / "clone"
         subprocess.run(["git", "clone", "-q", str(ROOT), str(clone)], check=True)
         env0 = {k: v for k, v in os.environ.items() if k not in ("CI", "VIRTUAL_ENV", "PYTHONPATH")}
-        subprocess.run(["make", ".venv/.installed"], cwd=clone, check=True, capture_output=True, env=env0)
         for label, extra in runs:
             load = _load()
             t = _now()
@@ -508,30 +508,38 @@ def _speed_targets(pair, mt, before):
     limit = {"solve10": 0.025, "raw10": 0.003, "build10": 0.020, "cli": 0.5, "sweep": 0.4, "mc": 6.0}
     L = ["## Speed targets: before and after in one run", "",
          f"Each line is the median of the pairs `bench/paired.py` ran: commit `{before}` (before this round's "
-         f"speed work) and this tree, each measurement in a fresh interpreter, the two alternating so that "
-         f"both met the same load. The ratio is before / after. Targets are for a quiet 2-core machine; "
-         f"this one was shared (load averages above), which slows both sides alike.", "",
-         "| measure | before | after | before / after | target | |", "|---|---|---|---|---|---|"]
+         f"speed work) and this tree, each measurement in a fresh interpreter (a study's worker processes "
+         f"started cold, as `sizing study` starts them), the two alternating so that both met the same load. "
+         f"The ratio is before / after. The targets are for a quiet 2-core machine, and this one was "
+         f"shared (load averages above): where the 'before' here is slower than the quiet-machine figure "
+         f"the previous `bench/RESULTS.md` gave, the load slowed both sides. The column 'quiet estimate' "
+         f"divides that earlier quiet figure by this run's ratio; it is an estimate, not a measurement, "
+         f"and the verdict uses it only where it says so.", "",
+         "| measure | before | after | before / after | quiet estimate | target | |",
+         "|---|---|---|---|---|---|---|"]
     for name, (label, b, a, ratio, target) in rows.items():
         if name == "imports":
             continue
-        ok = a <= limit[name]
+        quiet = paired.QUIET_BEFORE[name] / ratio
+        ok_measured, ok_quiet = a <= limit[name], quiet <= limit[name]
         extra = ""
         if name == "cli" and "imports" in rows:
             floor = rows["imports"][2]
-            ok = ok and a <= 1.6 * floor
+            ok_measured = ok_measured and a <= 1.6 * floor
+            ok_quiet = ok_quiet and a <= 1.6 * floor
             extra = f" ({a / floor:.1f}x the {_ms(floor)} of `import numpy, casadi`)"
-        L.append(f"| {label} | {_ms(b)} | {_ms(a)}{extra} | {ratio:.1f}x | {target} | {_mark(ok)} |")
+        verdict = ("met" if ok_measured else "met by the quiet estimate only" if ok_quiet else "**missed**")
+        L.append(f"| {label} | {_ms(b)} | {_ms(a)}{extra} | {ratio:.1f}x | {_ms(quiet)} | {target} | {verdict} |")
     for m in mt:
         L.append(f"| `make test`, fresh clone, {m['label']} | | {_ms(m['wall'])}: {m['summary'] or 'see log'} "
-                 f"(load {m['load_before']}) | | 4 min or less, passes | {_mark(m['ok'] and m['wall'] <= 240)} |")
-    extra = {k: v for k, v in pair.items() if k not in rows}
+                 f"(load {m['load_before']} when it started) | | | 4 min or less, passes | "
+                 f"{_mark(m['ok'] and m['wall'] <= 240)} |")
     if "mc" in rows:
         for side in ("before", "after"):
-            f, p50 = extra.get("feasible", {}).get(f"{side}_feasible"), extra.get("p50", {}).get(f"{side}_p50")
+            f = pair.get("mc_feasible", {}).get(f"{side}_mc_feasible")
+            p50 = pair.get("mc_p50", {}).get(f"{side}_mc_p50")
             if f is not None:
-                L.append("")
-                L.append(f"Monte Carlo {side}: P(feasible) {100 * f:.2f} %, median takeoff mass {p50:,.0f} kg.")
+                L += ["", f"Monte Carlo {side}: P(feasible) {100 * f:.2f} %, median takeoff mass {p50:,.0f} kg."]
     return L
 
 
