@@ -638,8 +638,14 @@ def write_results(grids, solves, cli, sw, mc, pair, mt, before, load0, load1, to
     L += ["", f"Points whose status differs between the two modes: {mc['status_mismatches']}.", "",
           "## Notes on the figures", "", "NOTES_PLACEHOLDER", "", f"Benchmarks took {total:.0f} s.", "",
           CAUTION, ""]
-    text = "\n".join(L)
-    atomic_write(ROOT / "bench" / "RESULTS.md", text.replace("NOTES_PLACEHOLDER", "\n".join(NOTES) or "(none)"))
+    text = "\n".join(L).replace("NOTES_PLACEHOLDER", "\n".join(NOTES) or "(none)")
+    # the section bench/explore.py writes (between its markers) is kept
+    path = ROOT / "bench" / "RESULTS.md"
+    old = path.read_text() if path.exists() else ""
+    begin, end = old.find("<!-- explore:"), old.find("<!-- /explore -->")
+    if begin >= 0 and end > begin:
+        text = text.rstrip("\n") + "\n\n" + old[begin:end + len("<!-- /explore -->")] + "\n"
+    atomic_write(path, text)
 
 
 if __name__ == "__main__":
