@@ -399,7 +399,12 @@ def bench_make_test(runs=(("CI unset, installing .venv first", {}), ("CI=true", 
             t = _now()
             r = subprocess.run(["make", "test"], cwd=clone, capture_output=True, text=True, env={**env0, **extra})
             tail = [ln for ln in r.stdout.splitlines() if " passed" in ln or " failed" in ln][-1:]
-            out.append({"label": label, "wall": _now() - t, "ok": r.returncode == 0, "summary": "".join(tail),
+            bad = [ln.split(" - ")[0] for ln in r.stdout.splitlines() if ln.startswith(("FAILED", "ERROR"))]
+            if r.returncode:
+                (ROOT / "out").mkdir(exist_ok=True)
+                (ROOT / "out" / f"make-test-{len(out)}.log").write_text(r.stdout + r.stderr)
+            out.append({"label": label, "wall": _now() - t, "ok": r.returncode == 0,
+                        "summary": "".join(tail) + (f" ({'; '.join(bad)})" if bad else ""),
                         "load_before": load, "load_after": _load()})
         shutil.rmtree(clone / ".venv", ignore_errors=True)
     return out

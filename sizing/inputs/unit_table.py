@@ -19,6 +19,7 @@ UNITS = {
     '%': (0.01, 'dimensionless'),
     '1/h': (0.0002777777777777778, '1 / [time]'),
     '1/s': (1, '1 / [time]'),
+    'C': (1, '[current] * [time]'),
     'J': (1, '[mass] * [length] ** 2 / [time] ** 2'),
     'K': (1, '[temperature]'),
     'N': (1.0, '[mass] * [length] / [time] ** 2'),
