@@ -87,3 +87,10 @@ def test_reading_the_examples_imports_no_pint():
 def test_an_unknown_unit_still_gets_pints_help():
     with pytest.raises(U.UnitError, match="unknown unit 'knts'.*did you mean"):
         U.parse("95 knts", "speed")
+
+
+@pytest.mark.parametrize("text", ["1e300 parsecs", "1e308 kft", "1" + "0" * 20 + " km"])
+def test_numbers_past_the_float_range_read_the_same_either_way(text, monkeypatch):
+    # the message about a value too large for a float is the same with or without the table
+    for dimension in ("length", "speed"):
+        assert outcome(text, dimension) == parse_with_pint(text, dimension, monkeypatch)

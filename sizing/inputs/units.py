@@ -206,12 +206,9 @@ def _from_table(value, text, unit_text, mag_user, entry, dim) -> Quantity:
         raise UnitError(f"{value!r} has no physical unit; a {dim.name} needs one, e.g. {dim.examples}")
     for spec, f in dim.accepts:
         if dims == unit_table.ACCEPTS[spec]:
-            try:
-                mag = float(mag_user * factor) * f
-            except OverflowError:
-                mag = math.inf
+            mag = finite(mag_user * factor) * f
             if not math.isfinite(mag):
-                raise UnitError(f"{value!r} is not a finite number")
+                raise UnitError(f"{short_repr(value)} is not a finite number (too large for a {dim.name})")
             return Quantity(mag, text, unit_text, float(factor) * f)
     raise UnitError(f"{value!r} is {_dimension_words(dims)}, not a {dim.name}; write it like {dim.examples}")
 
