@@ -40,12 +40,12 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from sizing import constraints as C  # noqa: E402
-from sizing.problem import tree as M  # noqa: E402
 from sizing import weights as Wt  # noqa: E402
-from sizing.common.fileio import atomic_write  # noqa: E402
 from sizing.common.caution import CAUTION  # noqa: E402
-from sizing.problem import Problem, solve  # noqa: E402
+from sizing.common.fileio import atomic_write  # noqa: E402
 from sizing.inputs.spec import load, validate  # noqa: E402
+from sizing.problem import Problem, solve  # noqa: E402
+from sizing.problem import tree as M  # noqa: E402
 
 TRAINER = ROOT / "requirements" / "trainer-jet.yaml"
 MC_STUDY = ROOT / "studies" / "trainer-uncertainty.yaml"
@@ -414,7 +414,6 @@ def main():
     import argparse
 
     import casadi
-
     import paired
 
     ap = argparse.ArgumentParser(description="sizing benchmarks")

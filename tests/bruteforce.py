@@ -9,8 +9,8 @@ optimization.  # common practice, no source
 import numpy as np
 
 from sizing import constraints as C
-from sizing.problem import tree as M
 from sizing import weights as Wt
+from sizing.problem import tree as M
 
 
 def _betas(tree, ac, W):

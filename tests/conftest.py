@@ -24,8 +24,8 @@ EXAMPLES = sorted((ROOT / "requirements").glob("*.yaml"))
 @pytest.fixture(scope="session")
 def solved():
     """{file name: (spec, result)} for every example requirement file."""
-    from sizing.problem import solve
     from sizing.inputs.spec import load
+    from sizing.problem import solve
 
     out = {}
     for path in EXAMPLES:
