@@ -28,6 +28,7 @@ import datetime
 import math
 import os
 import platform
+import signal
 import statistics
 import subprocess
 import sys
@@ -397,7 +398,10 @@ def bench_make_test(runs=(("CI unset, installing .venv first", {}), ("CI=true", 
         for label, extra in runs:
             load = _load()
             t = _now()
-            r = subprocess.run(["make", "test"], cwd=clone, capture_output=True, text=True, env={**env0, **extra})
+            # Ctrl-C as in a terminal: a bench started in the background ignores SIGINT, and its
+            # children would inherit that (the what-if page's server is stopped with it)
+            r = subprocess.run(["make", "test"], cwd=clone, capture_output=True, text=True, env={**env0, **extra},
+                               preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
             tail = [ln for ln in r.stdout.splitlines() if " passed" in ln or " failed" in ln][-1:]
             bad = [ln.split(" - ")[0] for ln in r.stdout.splitlines() if ln.startswith(("FAILED", "ERROR"))]
             if r.returncode:
