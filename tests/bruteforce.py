@@ -51,8 +51,8 @@ def curves(tree, W, n_speed=120, rescans=2, takeoff_mass=None):
             u = np.linspace(0, 1, n_speed)
             rows = np.arange(W.size)
             for _ in range(1 + rescans):
-                V = lo[:, None] + u[None, :] * (hi - lo)[:, None]
-                with np.errstate(all="ignore"):
+                with np.errstate(all="ignore"):           # no speed left: an empty window
+                    V = lo[:, None] + u[None, :] * (hi - lo)[:, None]
                     T = np.asarray(kind.function(W[:, None], V, reqb, ac).thrust, float)
                 T = np.where(np.isfinite(T) & (T > 0), T, np.inf)
                 j = T.argmin(axis=1)
@@ -129,13 +129,14 @@ def best(tree, W_bounds, Y_bounds, propeller, n=400, n_zoom=200, rtol=2e-7):
         m = np.where(ok, m, np.inf)
         return m, Y, need, lims
 
-    def scan(W):
+    def scan(W, start=None):
         """A propeller of given diameter makes the curves depend on the mass: fixed-point
-        iteration of mass -> curves -> closure at every grid point."""
+        iteration of mass -> curves -> closure at every grid point (from ``start``, a zoomed
+        grid from the best mass of the grid before)."""
         if not M.needs_takeoff_mass(tree):
             return scan_at(W, None)
         w = tree["aircraft"]["weights"]
-        mass = np.full_like(W, 3.0 * (w.get("crew", 0.0) + w.get("payload", 0.0)))
+        mass = np.full_like(W, 3.0 * (w.get("crew", 0.0) + w.get("payload", 0.0)) if start is None else start)
         for _ in range(60):
             m, Y, need, lims = scan_at(W, mass)
             new = np.where(np.isfinite(m), m, mass)
@@ -152,7 +153,7 @@ def best(tree, W_bounds, Y_bounds, propeller, n=400, n_zoom=200, rtol=2e-7):
         i = int(np.argmin(m))
         lo, hi = W[max(i - 2, 0)], W[min(i + 2, W.size - 1)]
         W = np.union1d(np.linspace(lo, hi, n_zoom), W[i])     # never worse than the last grid
-        m, Y, need, lims = scan(W)
+        m, Y, need, lims = scan(W, m[i])
         step = (hi - lo) / (n_zoom - 1)
         if step <= rtol * lo:
             break

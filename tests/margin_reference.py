@@ -8,12 +8,12 @@ import numpy as np
 
 from sizing import constraints as C
 from sizing.problem import tree as M
-from sizing.problem.capability import HARDER, MARGIN_RTOL
+from sizing.problem.capability import HARDER, MARGIN_RTOL, field_length
 
 
-def margin_at(r, tree, W_S, Y, beta):
+def margin_at(r, tree, W_S, Y, beta, takeoff_mass=None):
     """Smallest fractional margin of a requirement at (W_S, Y), best free speed."""
-    ac = M.aircraft(tree)
+    ac = M.aircraft(tree, takeoff_mass)
     req = M.requirement(r, ac, beta)
     with np.errstate(all="ignore"):
         thrust, lim, _ = C.required_curve(req, ac, np.array([W_S]), samples=48, refine=48, rtol=MARGIN_RTOL)
@@ -26,14 +26,18 @@ def margin_at(r, tree, W_S, Y, beta):
     return min(margins) if margins else math.inf
 
 
-def capability(r, tree, W_S, Y, beta, field=None):
-    """Value of the headline field at which the design just meets the requirement (bisection)."""
+def capability(r, tree, W_S, Y, beta, field=None, takeoff_mass=None):
+    """Value of the headline field at which the design just meets the requirement (bisection;
+    field lengths directly)."""
     field = field or M.value_field(r)
     harder = HARDER.get(field, +1)
     if isinstance(harder, dict):
         harder = harder.get(r["kind"], +1)
     v0 = float(r[field])
-    ac = M.aircraft(tree)
+    ac = M.aircraft(tree, takeoff_mass)
+    direct = field_length(r, ac, W_S, Y, beta)
+    if direct is not None:
+        return direct
 
     def beyond_limit(rr):
         if field not in ("mach", "speed") or r["kind"] == "stall-speed":
@@ -48,7 +52,7 @@ def capability(r, tree, W_S, Y, beta, field=None):
         try:
             if beyond_limit(rr):
                 return -1.0
-            return margin_at(rr, tree, W_S, Y, beta)
+            return margin_at(rr, tree, W_S, Y, beta, takeoff_mass)
         except ValueError:
             return -1.0
 

@@ -24,8 +24,8 @@ def compare(spec, res):
     found = 0
     for rr in res.requirements:
         r = tree["requirements"][rr.id]
-        fast = capability(r, tree, d.wing_loading, Y, rr.beta)
-        slow = REF.capability(r, tree, d.wing_loading, Y, rr.beta)
+        fast = capability(r, tree, d.wing_loading, Y, rr.beta, takeoff_mass=d.takeoff_mass)
+        slow = REF.capability(r, tree, d.wing_loading, Y, rr.beta, takeoff_mass=d.takeoff_mass)
         assert (fast is None) == (slow is None), (rr.id, fast, slow)
         if fast is not None:
             assert fast == pytest.approx(slow, rel=1e-12, abs=1e-12), (rr.id, fast, slow)

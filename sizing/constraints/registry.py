@@ -121,10 +121,12 @@ def buffet_speed_range(req, ac, W_S, V_lo, V_hi, samples=64, iterations=40):
     air = condition(req)
     rho, a = np.asarray(air.density, dtype=float), np.asarray(air.speed_of_sound, dtype=float)
     need = np.asarray(ac.buffet_margin * np.asarray(req.beta) * np.asarray(W_S, dtype=float), dtype=float)
-    shape = np.broadcast_shapes(need.shape, np.shape(V_lo), np.shape(V_hi))
+    shape = np.broadcast_shapes(need.shape, np.shape(V_lo), np.shape(V_hi), rho.shape)
     need = np.broadcast_to(need, shape).reshape(-1)
     lo0 = np.broadcast_to(np.asarray(V_lo, dtype=float), shape).reshape(-1)
     hi0 = np.broadcast_to(np.asarray(V_hi, dtype=float), shape).reshape(-1)
+    # one atmosphere per row where the altitude is given per row (a margin search's probes)
+    rho, a = (np.broadcast_to(v, shape).reshape(-1)[:, None] for v in (rho, a))
 
     def ok(V):
         return 0.5 * rho * V ** 2 * np.asarray(coefficient(ac.cl_buffet, V / a)) >= need[:, None]
@@ -226,7 +228,8 @@ def required_curve(req, ac, W_S, samples=240, refine=40, rtol=None, level=None):
     a, b = V_lo, np.maximum(V_hi, V_lo)
     u = np.linspace(0.0, 1.0, samples)
     for _ in range(12):
-        V = a[:, None] + u[None, :] * (b - a)[:, None]
+        with np.errstate(invalid="ignore"):              # an empty window (no speed left): inf
+            V = a[:, None] + u[None, :] * (b - a)[:, None]
         V[:, -1] = b                                     # the window's end exactly
         T = f(V, live)
         rows = np.arange(live.size)

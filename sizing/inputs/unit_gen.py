@@ -78,7 +78,7 @@ def generate(names) -> str:
     from . import units as U
 
     ureg = U.registry()
-    rows, diffs = {}, {}
+    rows, diffs, angles = {}, {}, {}
     for name in sorted(set(names)):
         try:
             u = ureg.parse_units(name)
@@ -87,6 +87,8 @@ def generate(names) -> str:
         entry = _entry(ureg, u)
         if entry is not None:
             rows[name] = entry
+        if str(u) in U.ANGLE_UNITS:                 # radians per unit (angles are dimensionless to pint)
+            angles[name] = ureg.Quantity(1, u).to("radian").magnitude
         delta = DIFFERENCE_OF.get(str(u))          # degC, degF in a temperature difference
         if delta:
             diffs[name] = _entry(ureg, ureg.parse_units(delta))
@@ -96,6 +98,8 @@ def generate(names) -> str:
     out += [f"    {k!r}: ({v[0]!r}, {v[1]!r})," for k, v in rows.items()]
     out += ["}", "DIFFERENCES = {"]
     out += [f"    {k!r}: ({v[0]!r}, {v[1]!r})," for k, v in diffs.items()]
+    out += ["}", "ANGLES = {"]
+    out += [f"    {k!r}: {v!r}," for k, v in angles.items()]
     out += ["}", "ACCEPTS = {"]
     out += [f"    {k!r}: {v!r}," for k, v in accepts.items()]
     out += ["}", "# ---- end of generated tables ----"]

@@ -9,7 +9,8 @@ entry is what pint gives and that every unit of the example files and the docs i
 
 An entry is ``unit text -> (factor, dimensionality)``: pint's factor to base SI units for
 a magnitude of 1 (an int where pint keeps one: a magnitude m converts to ``m * factor``,
-as pint computes it) and pint's dimensionality of the base units, as text.
+as pint computes it) and pint's dimensionality of the base units, as text. ``ANGLES`` gives
+radians per unit for the angle units (dimensionless to pint).
 """
 from __future__ import annotations
 
@@ -27,6 +28,7 @@ UNITS = {
     'W': (1.0, '[mass] * [length] ** 2 / [time] ** 3'),
     'W/N': (1.0, '[length] / [time]'),
     'cm': (0.01, '[length]'),
+    'deg': (0.017453292519943295, 'dimensionless'),
     'delta_degC': (1, '[temperature]'),
     'delta_degF': (0.5555555555555556, '[temperature]'),
     'foot': (0.30479999999999996, '[length]'),
@@ -77,6 +79,7 @@ UNITS = {
     'parsecs': (3.0856775814671916e+16, '[length]'),
     'pascal': (1.0, '[mass] / [length] / [time] ** 2'),
     'pound': (0.4535923700000001, '[mass]'),
+    'rad': (1, 'dimensionless'),
     's': (1, '[time]'),
     'second': (1, '[time]'),
     't': (1000.0, '[mass]'),
@@ -86,6 +89,10 @@ UNITS = {
 DIFFERENCES = {
     'degC': (1, '[temperature]'),
     'degF': (0.5555555555555556, '[temperature]'),
+}
+ANGLES = {
+    'deg': 0.017453292519943295,
+    'rad': 1,
 }
 ACCEPTS = {
     '[length]': '[length]',

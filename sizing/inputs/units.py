@@ -158,8 +158,13 @@ def _parse(value, dimension: str) -> Quantity:
         raise UnitError(f"{short_repr(value)} is not a finite number (too large for a {dim.name})")
     if not unit_text:
         raise UnitError(f"{value!r} has no unit; a {dim.name} needs one, e.g. {dim.examples}")
+    if dimension == "angle" and unit_text in unit_table.ANGLES:      # written out from pint
+        factor = unit_table.ANGLES[unit_text]
+        return Quantity(float(mag_user * factor), text, unit_text, float(1.0 * factor))
     entry = unit_table.lookup(unit_text, difference=dimension == "temperature_difference")
     if entry is not None:     # a unit pint defines, written out (no pint import)
+        if dimension == "angle":
+            raise UnitError(f"{value!r} is not an angle; write it like {dim.examples}")
         return _from_table(value, text, unit_text, mag_user, entry, dim)
     ureg = registry()
     try:

@@ -71,6 +71,10 @@ def inline(formula, n_in, n_out, key=()):
     return fun
 
 
+def _pick(*args):
+    return ca if is_symbolic(*args) else np
+
+
 def sqrt(x):
     """Square root."""
     if type(x) in _PLAIN or not isinstance(x, _CASADI_TYPES):

@@ -63,8 +63,6 @@ class _Context:
         self.base_warm = (x, lg, lx) if ok else None
         self._warm_solver = None
         self.continuation = Continuation(prob)
-        self.weight_fraction = {rid: prob.paths.index(("requirements", rid, "weight_fraction"))
-                                for rid in prob.req_ids if ("requirements", rid, "weight_fraction") in prob.paths}
 
     @property
     def warm_solver(self):
@@ -99,7 +97,8 @@ def _rows(prob, x, p):
 
 def _drivers(ctx, x, p, g=None):
     """Active requirements from the constraint rows (given, or evaluated at x), by the rule of
-    Problem.package."""
+    Problem.package: a thrust or wing-loading row on its bound (a free speed's floors, stall
+    and buffet, bound the speed, not the design)."""
     prob = ctx.prob
     g = _rows(prob, x, p) if g is None else g
     W_S, Y = x[0] * prob.WS_scale, x[1] * prob.Y_scale
@@ -107,11 +106,8 @@ def _drivers(ctx, x, p, g=None):
     for (rid, what), v in zip(prob.rows, g):
         if what == "thrust":
             margin = Y / (Y - v * prob.Y_scale) - 1.0
-        elif what in ("wing_loading", "stall"):
-            # stall: q CLmax / (beta W/S) - 1 with beta as given (1 for "after:" fractions,
-            # which only rescales a margin that is either ~0 or far above the tolerance)
-            j = ctx.weight_fraction.get(rid) if what == "stall" else None
-            margin = v * prob.WS_scale / (W_S * (float(p[j]) if j is not None else 1.0))
+        elif what == "wing_loading":
+            margin = v * prob.WS_scale / W_S
         else:
             continue
         worst[rid] = min(worst.get(rid, math.inf), margin)
