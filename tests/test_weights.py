@@ -176,7 +176,7 @@ def mission_sets(draw):
 
 
 @pytest.mark.slow
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(mission_sets())
 def test_coupled_mission_solve_against_brute_force(data):
     # common practice, no source: coupled fuel fraction and `after:` weight fractions, solver
