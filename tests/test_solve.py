@@ -1,9 +1,9 @@
 """The optimizer against an independent brute-force grid on the same physics.
 
-Checks: every example file and 120 random requirement sets (hypothesis; `make fuzz` draws new ones): the solver's
-takeoff mass within 0.1 % of the grid's best, never lighter than it by more than the grid's
-resolution (that would mean a violated requirement), the same drivers; sensitivities
-against finite differences of re-solves.  # common practice, no source
+Checks: every example file and 120 random requirement sets (hypothesis; `make fuzz` draws
+new ones): the solver's takeoff mass within 0.1 % of the grid's best, never lighter than it
+by more than the grid's resolution (that would mean a violated requirement), the same
+drivers; sensitivities against finite differences of re-solves.  # common practice, no source
 """
 import copy
 from pathlib import Path
