@@ -36,6 +36,7 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("-o", "--output", default="diagram.png")
     d.add_argument("--data", help="also write the sampled curves as CSV")
     d.add_argument("--units", choices=("si", "us"), default="si")
+    _figure_options(d)
 
     st = sub.add_parser("study", parents=[common], help="trade study: sweeps or Monte Carlo sampling")
     st.add_argument("file")
@@ -94,6 +95,15 @@ def _parser() -> argparse.ArgumentParser:
     sc = sub.add_parser("schema", parents=[common], help="print the JSON Schema of requirement files (for editors)")
     sc.add_argument("-o", "--output", default=None, help="write it to this file instead of printing it")
     return p
+
+
+def _figure_options(p):
+    p.add_argument("--labels", choices=("short", "full"), default="short",
+                   help="curve labels: the id (short) or the id and its condition: altitude, Mach or airspeed, "
+                        "load factor, weight fraction (full)")
+    p.add_argument("--range", dest="view", choices=("auto", "full"), default="auto",
+                   help="diagram axes: zoomed on the design point and the curves that matter (auto) or every "
+                        "curve's minimum and every W/S limit (full)")
 
 
 def _solve(path):
@@ -158,7 +168,8 @@ def cmd_diagram(args) -> int:
 
     _outputs_writable(args.output, args.data)
     spec, res = _solve(args.file)
-    written = write_diagram(spec, res, args.output, data=args.data, units=args.units)
+    written = write_diagram(spec, res, args.output, data=args.data, units=args.units, labels=args.labels,
+                            view=args.view)
     for w in written:
         print(f"wrote {w}")
     print(CAUTION)

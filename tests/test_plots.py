@@ -442,3 +442,95 @@ def test_trainer_turn_lift_limit_is_not_drawn_as_a_driver(solved):
     assert h.limits["turn-4g"].get_linewidth() < 2.0
     lab = h.labels.get("turn-4g:limit")
     assert lab is None or lab.get_fontweight() == "normal"
+
+
+# ------------------------------------------------- one colour per id, safe for colour-blind readers
+
+@pytest.mark.parametrize("cvd", ["deuteranomaly", "protanomaly", "tritanomaly"])
+def test_palette_apart_under_simulated_colour_vision_deficiency_by_an_independent_library(cvd):
+    # Source: Machado, Oliveira & Fernandes, IEEE TVCG 15(6), 2009, severity 100, as implemented by
+    # the colorspacious library (a second implementation beside the written-out matrices above);
+    # Delta E*ab (CIE76) >= 20 between every pair: our own design target.
+    from colorspacious import cspace_convert
+    from matplotlib.colors import to_rgb
+
+    sim = {"name": "sRGB1+CVD", "cvd_type": cvd, "severity": 100}
+    labs = [cspace_convert(np.clip(cspace_convert(to_rgb(c), sim, "sRGB1"), 0, 1), "sRGB1", "CIELab")
+            for c in PS.PALETTE]
+    worst = min(float(np.linalg.norm(labs[i] - labs[j])) for i in range(len(labs)) for j in range(i + 1, len(labs)))
+    assert worst >= 20.0, (cvd, worst)
+
+
+def test_written_out_deuteranopia_matrix_agrees_with_the_library():
+    # Source: Machado et al. 2009 (see above): our matrix on linear RGB and colorspacious agree
+    from colorspacious import cspace_convert
+    from matplotlib.colors import to_rgb
+
+    M = np.array([[0.367322, 0.860646, -0.227968], [0.280085, 0.672501, 0.047413],
+                  [-0.011820, 0.042940, 0.968881]])
+    for c in PS.PALETTE:
+        ours = np.clip(M @ _srgb_to_linear(_hex(c)), 0, 1)
+        lib = _srgb_to_linear(np.clip(cspace_convert(to_rgb(c), {"name": "sRGB1+CVD", "cvd_type": "deuteranomaly",
+                                                                  "severity": 100}, "sRGB1"), 0, 1))
+        assert np.allclose(ours, lib, atol=2e-3), c
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_ids_stay_apart_in_greyscale_and_by_colour(solved, name):
+    # common practice, no source: no two ids share colour and line style, nor marker, in a file
+    # of up to ten requirements; stall-speed, takeoff and landing keep their colour across files
+    spec, _ = solved[name]
+    st = PS.styles_of(spec)
+    assert len({(s.colour, str(s.linestyle)) for s in st.values()}) == len(st)
+    if len(st) <= len(PS.MARKERS):
+        assert len({s.marker for s in st.values()}) == len(st)
+    firsts = {}
+    for r in spec.requirements:
+        firsts.setdefault(r.kind, r.id)
+    for kind, rid in firsts.items():
+        if kind in PS.KIND_SLOTS:
+            assert st[rid].colour == PS.PALETTE[PS.KIND_SLOTS[kind]], (kind, rid)
+
+
+def test_styles_of_many_requirements_never_repeat():
+    # common practice, no source: past eight ids the colours repeat with the next line style
+    st = PS.requirement_styles([(f"r{i}", "takeoff") for i in range(20)])
+    assert len({(s.colour, str(s.linestyle)) for s in st.values()}) == 20
+    assert st["r0"].colour == PS.PALETTE[PS.KIND_SLOTS["takeoff"]]
+
+
+@pytest.mark.parametrize("name", ["touring-piston.yaml", "trainer-jet.yaml"])
+def test_one_colour_per_id_across_every_figure(solved, name):
+    # common practice, no source: the diagram, the envelope, the turn chart and the WAT chart draw
+    # an id in the same colour
+    from matplotlib.colors import same_color
+
+    from sizing.charts.envelope import compute_envelope
+    from sizing.charts.envelope_plot import plot_envelope
+    from sizing.charts.hot_high import compute_wat
+    from sizing.charts.hot_high_plot import plot_wat
+    from sizing.charts.turn import compute_turn
+    from sizing.charts.turn_plot import plot_turn
+
+    spec, res = solved[name]
+    st = PS.styles_of(spec)
+    seen = {}
+    h = P.constraint_diagram(spec, result=res, samples=101)
+    for rid, ln in list(h.curves.items()) + list(h.limits.items()):
+        seen.setdefault(rid, set()).add(ln.get_color())
+    env = plot_envelope(compute_envelope(spec, res, altitudes=30, machs=40), details=False)
+    for rid, ln in env["points"].items():
+        seen.setdefault(rid, set()).add(ln.get_markerfacecolor())
+    turn = plot_turn(compute_turn(spec, res, machs=40, rates=20))
+    for rid, ln in turn["points"].items():
+        seen.setdefault(rid, set()).add(ln.get_markerfacecolor())
+    wat = compute_wat(spec, res, temperatures=[288.15], curve_points=2)
+    wh = plot_wat(wat)
+    for ln in wh["ax"].lines:
+        lab = ln.get_label()
+        if lab.startswith("limited by "):
+            seen.setdefault(lab[len("limited by "):], set()).add(ln.get_markeredgecolor())
+    assert set(seen) <= set(st)
+    assert len(seen) >= len(spec.requirements) - 1
+    for rid, colours in seen.items():
+        assert all(same_color(c, st[rid].colour) for c in colours), (rid, colours, st[rid].colour)

@@ -426,7 +426,7 @@ def _draw_footer(fig, data):
              linespacing=1.35)
 
 
-def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI) -> list:
+def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI, labels="short", view="auto") -> list:
     """Write the constraint diagram (format from the suffix) and optionally the curves CSV.
 
     Returns the list of written paths.
@@ -439,7 +439,7 @@ def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI) -> list:
     if fmt is None:
         raise InputError(f"cannot tell the format from {out.suffix or 'no suffix'!r}; "
                          f"use one of {', '.join(FORMATS)}", str(output), field="--output")
-    h = constraint_diagram(spec, result=res, units=units)
+    h = constraint_diagram(spec, result=res, units=units, labels=labels, view=view)
     atomic_write(out, figure_bytes(h.figure, fmt, dpi), "wb")
     if data:
         atomic_write(Path(data), curves_csv(h.data), "w")

@@ -6,7 +6,6 @@ import math
 
 import numpy as np
 
-
 CROSSES = 1.0e4     # the cost of a label box over a drawn line: never taken (see :func:`clear`)
 
 
