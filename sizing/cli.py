@@ -84,6 +84,9 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("file")
     r.add_argument("-o", "--output", default="review.html")
     r.add_argument("--format", choices=("html", "md"), default=None)
+    r.add_argument("--revision", default=None, help="the revision of the design or document this report belongs "
+                                                    "to, printed in its header (e.g. 'B' or '2025-03 review')")
+    _figure_options(r)
 
     c = sub.add_parser("check", parents=[common], help="validate a requirement file only")
     c.add_argument("file")
@@ -182,7 +185,8 @@ def cmd_report(args) -> int:
     _outputs_writable(args.output)
     fmt = report_format(args.output, args.format)
     spec, res = _solve(args.file)
-    path = write_report(spec, res, args.output, fmt=fmt)
+    path = write_report(spec, res, args.output, fmt=fmt, revision=args.revision, labels=args.labels,
+                        view=args.view)
     print(f"wrote {path}")
     print(CAUTION)
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
