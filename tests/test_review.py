@@ -211,7 +211,7 @@ def test_report_has_span_thrust_per_engine_and_cruise_lift(solved):
     assert f.span == pytest.approx(math.sqrt(8.5 * d.wing_area), rel=1e-12)
     assert f.thrust_per_engine == pytest.approx(d.thrust / 2, rel=1e-12)
     c = next(c for c in f.cruise if c.name.startswith("initial-cruise"))
-    air = isa(43000 * 0.3048)
+    air = isa(41000 * 0.3048)     # the file's initial-cruise altitude
     V = 0.80 * float(air.speed_of_sound)
     CL = res.requirement("initial-cruise").beta * d.wing_loading / (0.5 * float(air.density) * V ** 2)
     assert c.CL == pytest.approx(CL, rel=1e-9)
@@ -220,3 +220,70 @@ def test_report_has_span_thrust_per_engine_and_cruise_lift(solved):
     text = R.render_report(spec, res, "md", envelope=False, flight=False, diagram=False)
     assert "wing span" in text and "thrust per engine" in text and "| L/D |" in text
     assert "of which wing" in text and "of which propulsion" in text
+
+
+def test_export_workbook_round_trips(solved, tmp_path, capsys):
+    # the workbook read back with pandas/openpyxl holds the solve's numbers, the caution on every
+    # sheet and a unit in every header (common practice, no source)
+    import pandas as pd
+
+    from sizing.cli import main
+
+    out = tmp_path / "design.xlsx"
+    assert main(["export", str(ROOT / "requirements" / "trainer-jet.yaml"), "-o", str(out)]) == 0
+    assert "wrote" in capsys.readouterr().out
+    spec, res = solved["trainer-jet.yaml"]
+    book = pd.read_excel(out, sheet_name=None, header=None)
+    assert {"design", "weights", "requirements", "diagram curves", "inputs"} <= set(book)
+    for name, sheet in book.items():
+        assert sheet.iloc[0, 0] == CAUTION, name
+        header = [str(h) for h in sheet.iloc[3].dropna()]
+        assert header and all(re.search(r"\[[^\]]+\]", h) for h in header), (name, header)
+    design = pd.read_excel(out, sheet_name="design", skiprows=3)
+    row = design[(design.iloc[:, 0] == "takeoff mass") & (design.iloc[:, 2] == "kg")]
+    assert float(row.iloc[0, 1]) == pytest.approx(res.design.takeoff_mass, rel=1e-12)
+    reqs = pd.read_excel(out, sheet_name="requirements", skiprows=3)
+    assert list(reqs["id [text]"]) == [r.id for r in res.requirements]
+    assert list(reqs["active [yes/no]"]) == ["yes" if r.active else "no" for r in res.requirements]
+    curves = pd.read_excel(out, sheet_name="diagram curves", skiprows=3)
+    assert "wing loading W/S [N/m²]" in curves.columns and any(c.startswith("turn-4g") for c in curves.columns)
+    assert main(["export", str(ROOT / "requirements" / "trainer-jet.yaml"), "-o", str(tmp_path / "d.csv")]) == 2
+
+
+def test_class_cross_check_flags_an_outlier_and_needs_a_declared_class(solved):
+    # Source: Raymer Table 3.1 (docs/references.md §11.7, from memory): single-engine general aviation
+    # We/W0 = 2.36 W0^-0.18; the check says OUTLIER outside +/-10 % of it, and nothing without a class
+    from sizing.problem.crosscheck import cross_check
+    from sizing.weights.classes import CLASSES, typical_empty_fraction
+
+    spec, res = solved["touring-piston.yaml"]
+    check = cross_check(res, spec)
+    assert check is not None and check.name == "general-aviation-single"
+    t, lo, hi = typical_empty_fraction(CLASSES[check.name], res.design.takeoff_mass)
+    assert t == pytest.approx(2.36 * (res.design.takeoff_mass / 0.45359237) ** -0.18, rel=1e-12)
+    row = check.rows[0]
+    assert row.inside == (lo <= res.design.empty_mass / res.design.takeoff_mass <= hi)
+    data = {k: v for k, v in spec.data.items()}
+    data["aircraft"] = {k: v for k, v in spec.data["aircraft"].items() if k != "class"}
+    plain = validate(data, "no-class.yaml", text="no class")
+    assert cross_check(res, plain) is None
+    data["aircraft"] = dict(spec.data["aircraft"], weights=dict(spec.data["aircraft"]["weights"],
+                                                               empty=dict(spec.data["aircraft"]["weights"]["empty"],
+                                                                          other=0.55)))
+    heavy = validate(data, "heavy.yaml", text="heavy")
+    from sizing.problem import solve
+
+    hc = cross_check(solve(heavy), heavy)
+    assert hc.rows[0].verdict.startswith("OUTLIER") and hc.outliers
+
+
+@pytest.mark.parametrize("name", ["touring-piston.yaml", "regional-turboprop.yaml", "trainer-jet.yaml",
+                                  "long-range-jet.yaml"])
+def test_every_example_passes_its_own_class_cross_check(solved, name):
+    # each invented example sits inside the published ranges of the class its file declares
+    from sizing.problem.crosscheck import cross_check
+
+    spec, res = solved[name]
+    check = cross_check(res, spec)
+    assert check is not None, "every example declares aircraft.class"
+    assert not check.outliers, "\n".join(check.lines())

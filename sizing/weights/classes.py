@@ -80,7 +80,7 @@ def typical_empty_fraction(cls: AircraftClass, m_TO):
 
     Examples
     --------
-    Source: Raymer Table 3.1 (docs/references.md check 11.5-a): single-engine general
+    Source: Raymer Table 3.1 (docs/references.md check 11.7-a): single-engine general
     aviation at W0 = 3 000 lb -> 0.55851, the band +/-10 % about it.
 
     >>> t, lo, hi = typical_empty_fraction(CLASSES["general-aviation-single"], 3000 * LB)
