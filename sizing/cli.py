@@ -36,6 +36,7 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("-o", "--output", default="diagram.png")
     d.add_argument("--data", help="also write the sampled curves as CSV")
     d.add_argument("--units", choices=("si", "us"), default="si")
+    _figure_options(d)
 
     st = sub.add_parser("study", parents=[common], help="trade study: sweeps or Monte Carlo sampling")
     st.add_argument("file")
@@ -43,6 +44,8 @@ def _parser() -> argparse.ArgumentParser:
     st.add_argument("--workers", type=int, default=None, help="local processes (default: all cores)")
     st.add_argument("--dask", metavar="ADDRESS", help="run on a Dask distributed scheduler")
     st.add_argument("--limit", type=int, default=None, help="run only the first N points (quick checks)")
+    st.add_argument("--xlsx", action="store_true", help="also write results.xlsx (the table, units in the "
+                                                        "headers, the caution on every sheet)")
     st.add_argument("--progress", action="store_true", default=None,
                     help="show the progress bar even when stderr is not a terminal (logs)")
 
@@ -83,6 +86,14 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("file")
     r.add_argument("-o", "--output", default="review.html")
     r.add_argument("--format", choices=("html", "md"), default=None)
+    r.add_argument("--revision", default=None, help="the revision of the design or document this report belongs "
+                                                    "to, printed in its header (e.g. 'B' or '2025-03 review')")
+    _figure_options(r)
+
+    ex = sub.add_parser("export", parents=[common], help="spreadsheet of the design (.xlsx): design point, "
+                                                          "weights, requirements, diagram curves, inputs")
+    ex.add_argument("file")
+    ex.add_argument("-o", "--output", default="design.xlsx", help="workbook path (.xlsx)")
 
     c = sub.add_parser("check", parents=[common], help="validate a requirement file only")
     c.add_argument("file")
@@ -94,6 +105,15 @@ def _parser() -> argparse.ArgumentParser:
     sc = sub.add_parser("schema", parents=[common], help="print the JSON Schema of requirement files (for editors)")
     sc.add_argument("-o", "--output", default=None, help="write it to this file instead of printing it")
     return p
+
+
+def _figure_options(p):
+    p.add_argument("--labels", choices=("short", "full"), default="short",
+                   help="curve labels: the id (short) or the id and its condition: altitude, Mach or airspeed, "
+                        "load factor, weight fraction (full)")
+    p.add_argument("--range", dest="view", choices=("auto", "full"), default="auto",
+                   help="diagram axes: zoomed on the design point and the curves that matter (auto) or every "
+                        "curve's minimum and every W/S limit (full)")
 
 
 def _solve(path):
@@ -158,7 +178,8 @@ def cmd_diagram(args) -> int:
 
     _outputs_writable(args.output, args.data)
     spec, res = _solve(args.file)
-    written = write_diagram(spec, res, args.output, data=args.data, units=args.units)
+    written = write_diagram(spec, res, args.output, data=args.data, units=args.units, labels=args.labels,
+                            view=args.view)
     for w in written:
         print(f"wrote {w}")
     print(CAUTION)
@@ -171,8 +192,26 @@ def cmd_report(args) -> int:
     _outputs_writable(args.output)
     fmt = report_format(args.output, args.format)
     spec, res = _solve(args.file)
-    path = write_report(spec, res, args.output, fmt=fmt)
+    path = write_report(spec, res, args.output, fmt=fmt, revision=args.revision, labels=args.labels,
+                        view=args.view)
     print(f"wrote {path}")
+    print(CAUTION)
+    return EXIT_OK if res.feasible else EXIT_INFEASIBLE
+
+
+def cmd_export(args) -> int:
+    from pathlib import Path
+
+    from .common.errors import InputError
+
+    if Path(args.output).suffix.lower() != ".xlsx":
+        raise InputError(f"{args.output!r}: the export is an Excel workbook, so name it .xlsx (got "
+                         f"{Path(args.output).suffix or 'no suffix'})", field="-o/--output")
+    _outputs_writable(args.output)
+    spec, res = _solve(args.file)
+    from .reports.workbook import write_workbook
+
+    print(f"wrote {write_workbook(spec, res, args.output)}")
     print(CAUTION)
     return EXIT_OK if res.feasible else EXIT_INFEASIBLE
 
@@ -308,7 +347,7 @@ def cmd_study(args) -> int:
     study = load_study(args.file)            # bad input first, then the output folder, then the work
     with output_folder(args.output) as folder:
         result = run_study(study, workers=args.workers, dask=args.dask, limit=args.limit, progress=args.progress)
-        written = write_outputs(result, args.output, folder)
+        written = write_outputs(result, args.output, folder, xlsx=args.xlsx)
     print(summary(result))
     for w in written:
         print(f"wrote {w}")
@@ -325,7 +364,7 @@ def cmd_explore(args) -> int:
 COMMANDS = {"solve": cmd_solve, "check": cmd_check, "schema": cmd_schema, "diagram": cmd_diagram,
             "report": cmd_report, "envelope": cmd_envelope, "study": cmd_study,
             "explore": cmd_explore, "vn": cmd_vn, "turn": cmd_turn, "wat": cmd_wat,
-            "payload-range": cmd_payload_range}
+            "payload-range": cmd_payload_range, "export": cmd_export}
 
 
 def main(argv=None) -> int:

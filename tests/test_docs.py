@@ -92,8 +92,10 @@ def schema_headings():
         if heading in models:
             assert models[heading][0] is model, f"two models under one heading {heading!r}"
             continue
-        models[heading] = (model, set(model.model_fields))
+        # a field the file writes under an alias (``class``, a Python keyword) is documented by that name
+        models[heading] = (model, {f.alias or n for n, f in model.model_fields.items()})
         for name, field in model.model_fields.items():
+            name = field.alias or name
             sub = f"{path}.{name}" if path else name
             for in_list, group in _model_groups(field.annotation):
                 where = sub + ("[]" if in_list else "")

@@ -322,7 +322,7 @@ def test_momentum_theory_cap_on_propeller_thrust():
 def test_the_touring_single_takes_off_within_its_propeller():
     # common practice, no source (check 15.5-b): with a 1.9 m propeller, the thrust the takeoff
     # requirement counts on at V_LOF/sqrt(2) is the actuator disk's at that speed (below the ideal
-    # static thrust of its power); the cruise efficiency's eta_p P/V (7.47 kN here) lies above it
+    # static thrust of its power); the cruise efficiency's eta_p P/V lies well above it
     from pathlib import Path
 
     src = (Path(__file__).resolve().parents[1] / "requirements" / "touring-piston.yaml").read_text()
@@ -343,7 +343,7 @@ def test_the_touring_single_takes_off_within_its_propeller():
     at_speed = float(actuator_disk_thrust(P, V_avg, float(air.density), A_disk))
     assert T == pytest.approx(at_speed, rel=1e-3)       # the smooth blend of the two bounds
     assert T < float(propeller_static_thrust(P, float(air.density), A_disk))
-    assert ac.propeller_efficiency * P / V_avg > 1.3 * at_speed
+    assert ac.propeller_efficiency * P / V_avg > 1.2 * at_speed
 
 
 # ---------------------------------------------------------------- inputs: contradictions
@@ -414,7 +414,7 @@ def test_margins_read_in_the_requirement_documents_terms(solved):
     # common practice, no source: each new form prints its margin in its own terms, airspeeds
     # labelled, the climb segment's paragraph beside it
     jet = summary(solved["long-range-jet.yaml"][1])
-    for words in ("balanced field", "over 35 ft", "kn CAS vs 125 kn CAS limit", "14 CFR 25.121(b)",
+    for words in ("balanced field", "over 35 ft", "kn CAS vs 135 kn CAS limit", "14 CFR 25.121(b)",
                   "14 CFR 25.121(d)", "field length", "landing distance / 0.6", "max landing fraction"):
         assert words in jet, words
     prop = summary(solved["regional-turboprop.yaml"][1])

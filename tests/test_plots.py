@@ -320,3 +320,216 @@ def test_palette_stays_distinct_under_colour_vision_deficiency():
                 d = float(np.linalg.norm(labs[i] - labs[j]))
                 assert d >= 20.0, (name, PS.PALETTE[i], PS.PALETTE[j], d)
     assert len(set(PS.MARKERS)) == len(PS.MARKERS) >= len(PS.PALETTE)
+
+
+# ------------------------------------------------------- labels clear of every line
+
+def _label_outline(text, renderer):
+    """The drawn outline of a label in display pixels: its box patch (rotated with it), else its extent."""
+    from matplotlib.path import Path as MPath
+
+    patch = text.get_bbox_patch()
+    if patch is not None:
+        return patch.get_path().transformed(patch.get_transform())
+    return MPath.unit_rectangle().transformed(
+        __import__("matplotlib.transforms", fromlist=["BboxTransformTo"]).BboxTransformTo(
+            text.get_window_extent(renderer)))
+
+
+def _line_pixels(line, ax_box):
+    """The drawn path of a Line2D in display pixels, densified to 0.5 px, inside the axes."""
+    xy = line.get_transform().transform(np.asarray(line.get_xydata(), float))
+    out = []
+    for a, b in zip(xy[:-1], xy[1:]):
+        if not (np.all(np.isfinite(a)) and np.all(np.isfinite(b))):
+            continue
+        n = int(min(max(np.hypot(*(b - a)) / 0.5, 1), 20000))
+        out.append(a + np.linspace(0.0, 1.0, n + 1)[:, None] * (b - a))
+    if not out:
+        return np.empty((0, 2))
+    p = np.vstack(out)
+    return p[(p[:, 0] >= ax_box.x0) & (p[:, 0] <= ax_box.x1) & (p[:, 1] >= ax_box.y0) & (p[:, 1] <= ax_box.y1)]
+
+
+def _cuts(h):
+    """[(label text, line label)] where a label of the diagram lies over a drawn line not its own."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = FigureCanvasAgg(h.figure)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    ax_box = h.ax.get_window_extent(renderer)
+    lines = [ln for ln in h.ax.lines if len(ln.get_xydata()) > 1]
+    pix = {id(ln): _line_pixels(ln, ax_box) for ln in lines}
+    own = {}
+    for key, t in h.labels.items():
+        rid = key.split(":")[0]
+        own[id(t)] = {id(x) for x in (h.curves.get(rid) if ":" not in key else None, h.limits.get(rid)) if x is not None}
+    for t, m in h.mass_labels:
+        own[id(t)] = {id(ln) for mk, ln in h.mass_lines if mk == m}
+    texts = list(h.labels.values()) + [t for t, _ in h.mass_labels] + list(h.region_labels)
+    texts += [t for _, t in h.references.values() if t is not None]
+    if h.design_label is not None:      # the design's callout may cover lines of constant mass, nothing else
+        texts.append(h.design_label)
+        own[id(h.design_label)] = {id(ln) for _, ln in h.mass_lines}
+    bad = []
+    for t in texts:
+        outline = _label_outline(t, renderer)
+        for ln in lines:
+            if id(ln) in own.get(id(t), ()) or not len(pix[id(ln)]):
+                continue
+            if outline.contains_points(pix[id(ln)]).any():
+                bad.append((t.get_text(), ln.get_label()))
+    return bad
+
+
+@pytest.mark.parametrize("labels", ["short", "full"])
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_labels_never_cut_a_line(solved, name, labels):
+    # common practice, no source: a label is read over clear paper, never over another curve
+    spec, res = solved[name]
+    h = P.constraint_diagram(spec, result=res, labels=labels, samples=151)
+    assert _cuts(h) == []
+    named = set(h.labels) | ({t.get_text() for t in h.unlabelled.get_texts()} if h.unlabelled else set())
+    for r in spec.requirements:         # every id is named: on its line, or in the key under the axes
+        assert any(k == r.id or k.startswith(r.id + ":") or k.startswith(r.id + " ") for k in named), r.id
+    if labels == "full":                # the condition is written under the id
+        for key, t in h.labels.items():
+            if ":" not in key:
+                assert "W/W_TO" in t.get_text(), t.get_text()
+
+
+def test_the_label_test_sees_a_label_over_a_line(solved):
+    # the check above can fail: a label moved onto another requirement's curve is caught
+    spec, res = solved["trainer-jet.yaml"]
+    h = P.constraint_diagram(spec, result=res, samples=151)
+    t = h.labels["field"]
+    line = h.curves["dash"]
+    x, y = line.get_xdata(), line.get_ydata()
+    k = int(np.nanargmin(np.abs(x - 0.5 * (h.ax.get_xlim()[0] + h.ax.get_xlim()[1]))))
+    t.set_position((x[k], y[k]))
+    assert ("field", line.get_label()) in _cuts(h)
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_a_part_is_drawn_as_a_driver_only_where_the_design_sits_on_it(solved, name):
+    # common practice, no source: bold = the design point lies on that curve or limit line
+    spec, res = solved[name]
+    h = P.constraint_diagram(spec, result=res, samples=151)
+    d = res.design
+    W0, Y0 = d.wing_loading, d.power_to_weight if res.propeller else d.thrust_to_weight
+    exact = PD.sample_requirements(spec, np.array([W0]), takeoff_mass=PD.takeoff_mass_for(spec, res))
+    for c in h.data.curves:
+        t, lim = exact[c.id]
+        on_curve = t is not None and abs(float(t[0]) / Y0 - 1) < 1e-3 and c.active
+        on_limit = lim is not None and abs(W0 / float(lim[0]) - 1) < 1e-3 and c.active
+        if c.id in h.curves:
+            assert (h.curves[c.id].get_linewidth() > 2.0) == on_curve, c.id
+        if c.id in h.limits:
+            assert (h.limits[c.id].get_linewidth() > 2.0) == on_limit, c.id
+        if c.id in h.labels:
+            assert (h.labels[c.id].get_fontweight() == "bold") == (on_curve if c.id in h.curves else on_limit)
+    assert h.data.curves[[c.id for c in h.data.curves].index(res.drivers[0])].active
+
+
+def test_trainer_turn_lift_limit_is_not_drawn_as_a_driver(solved):
+    # the turn requirement is active through its thrust curve; its CLmax limit lies far right of the design
+    spec, res = solved["trainer-jet.yaml"]
+    h = P.constraint_diagram(spec, result=res, samples=151)
+    assert res.requirement("turn-4g").active
+    assert h.curves["turn-4g"].get_linewidth() > 2.0
+    assert h.limits["turn-4g"].get_linewidth() < 2.0
+    lab = h.labels.get("turn-4g:limit")
+    assert lab is None or lab.get_fontweight() == "normal"
+
+
+# ------------------------------------------------- one colour per id, safe for colour-blind readers
+
+@pytest.mark.parametrize("cvd", ["deuteranomaly", "protanomaly", "tritanomaly"])
+def test_palette_apart_under_simulated_colour_vision_deficiency_by_an_independent_library(cvd):
+    # Source: Machado, Oliveira & Fernandes, IEEE TVCG 15(6), 2009, severity 100, as implemented by
+    # the colorspacious library (a second implementation beside the written-out matrices above);
+    # Delta E*ab (CIE76) >= 20 between every pair: our own design target.
+    from colorspacious import cspace_convert
+    from matplotlib.colors import to_rgb
+
+    sim = {"name": "sRGB1+CVD", "cvd_type": cvd, "severity": 100}
+    labs = [cspace_convert(np.clip(cspace_convert(to_rgb(c), sim, "sRGB1"), 0, 1), "sRGB1", "CIELab")
+            for c in PS.PALETTE]
+    worst = min(float(np.linalg.norm(labs[i] - labs[j])) for i in range(len(labs)) for j in range(i + 1, len(labs)))
+    assert worst >= 20.0, (cvd, worst)
+
+
+def test_written_out_deuteranopia_matrix_agrees_with_the_library():
+    # Source: Machado et al. 2009 (see above): our matrix on linear RGB and colorspacious agree
+    from colorspacious import cspace_convert
+    from matplotlib.colors import to_rgb
+
+    M = np.array([[0.367322, 0.860646, -0.227968], [0.280085, 0.672501, 0.047413],
+                  [-0.011820, 0.042940, 0.968881]])
+    for c in PS.PALETTE:
+        ours = np.clip(M @ _srgb_to_linear(_hex(c)), 0, 1)
+        lib = _srgb_to_linear(np.clip(cspace_convert(to_rgb(c), {"name": "sRGB1+CVD", "cvd_type": "deuteranomaly",
+                                                                  "severity": 100}, "sRGB1"), 0, 1))
+        assert np.allclose(ours, lib, atol=2e-3), c
+
+
+@pytest.mark.parametrize("name", [p.name for p in EXAMPLES])
+def test_ids_stay_apart_in_greyscale_and_by_colour(solved, name):
+    # common practice, no source: no two ids share colour and line style, nor marker, in a file
+    # of up to ten requirements; stall-speed, takeoff and landing keep their colour across files
+    spec, _ = solved[name]
+    st = PS.styles_of(spec)
+    assert len({(s.colour, str(s.linestyle)) for s in st.values()}) == len(st)
+    if len(st) <= len(PS.MARKERS):
+        assert len({s.marker for s in st.values()}) == len(st)
+    firsts = {}
+    for r in spec.requirements:
+        firsts.setdefault(r.kind, r.id)
+    for kind, rid in firsts.items():
+        if kind in PS.KIND_SLOTS:
+            assert st[rid].colour == PS.PALETTE[PS.KIND_SLOTS[kind]], (kind, rid)
+
+
+def test_styles_of_many_requirements_never_repeat():
+    # common practice, no source: past eight ids the colours repeat with the next line style
+    st = PS.requirement_styles([(f"r{i}", "takeoff") for i in range(20)])
+    assert len({(s.colour, str(s.linestyle)) for s in st.values()}) == 20
+    assert st["r0"].colour == PS.PALETTE[PS.KIND_SLOTS["takeoff"]]
+
+
+@pytest.mark.parametrize("name", ["touring-piston.yaml", "trainer-jet.yaml"])
+def test_one_colour_per_id_across_every_figure(solved, name):
+    # common practice, no source: the diagram, the envelope, the turn chart and the WAT chart draw
+    # an id in the same colour
+    from matplotlib.colors import same_color
+
+    from sizing.charts.envelope import compute_envelope
+    from sizing.charts.envelope_plot import plot_envelope
+    from sizing.charts.hot_high import compute_wat
+    from sizing.charts.hot_high_plot import plot_wat
+    from sizing.charts.turn import compute_turn
+    from sizing.charts.turn_plot import plot_turn
+
+    spec, res = solved[name]
+    st = PS.styles_of(spec)
+    seen = {}
+    h = P.constraint_diagram(spec, result=res, samples=101)
+    for rid, ln in list(h.curves.items()) + list(h.limits.items()):
+        seen.setdefault(rid, set()).add(ln.get_color())
+    env = plot_envelope(compute_envelope(spec, res, altitudes=30, machs=40), details=False)
+    for rid, ln in env["points"].items():
+        seen.setdefault(rid, set()).add(ln.get_markerfacecolor())
+    turn = plot_turn(compute_turn(spec, res, machs=40, rates=20))
+    for rid, ln in turn["points"].items():
+        seen.setdefault(rid, set()).add(ln.get_markerfacecolor())
+    wat = compute_wat(spec, res, temperatures=[288.15], curve_points=2)
+    wh = plot_wat(wat)
+    for ln in wh["ax"].lines:
+        lab = ln.get_label()
+        if lab.startswith("limited by "):
+            seen.setdefault(lab[len("limited by "):], set()).add(ln.get_markeredgecolor())
+    assert set(seen) <= set(st)
+    assert len(seen) >= len(spec.requirements) - 1
+    for rid, colours in seen.items():
+        assert all(same_color(c, st[rid].colour) for c in colours), (rid, colours, st[rid].colour)

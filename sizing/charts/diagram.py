@@ -22,7 +22,7 @@ import numpy as np
 
 from ..physics.atmosphere import g0
 from .diagram_data import DiagramData, curves_csv, diagram_data, nice
-from .labels import Placer, put, thin
+from .labels import Placer, clear, put, thin
 from .style import (
     DESIGN_COLOUR,
     DPI,
@@ -33,7 +33,6 @@ from .style import (
     MASS_COLOUR,
     NO_CLOSURE_FILL,
     PALETTE,
-    curve_style,
     figure_bytes,
 )
 from .style import units_for as _units
@@ -54,6 +53,10 @@ class DiagramHandles:
     design_point: object = None                      # Line2D marker, None when infeasible
     design_label: object = None
     mass_lines: list = field(default_factory=list)   # (mass [display unit], Line2D)
+    mass_labels: list = field(default_factory=list)  # (Text, mass [display unit]): on that mass's line
+    references: dict = field(default_factory=dict)   # label -> (Line2D marker, Text)
+    region_labels: list = field(default_factory=list)   # Text naming a region ("feasible", ...)
+    unlabelled: object = None                        # key under the axes of ids with no clear label place
     feasible: object = None                          # the filled region
     no_closure: object = None                        # where the weight does not close
     data: DiagramData | None = None
@@ -80,8 +83,12 @@ def _mass_levels(mass, m_ref):
             if abs(v - m_ref) > 0.25 * step][:12]
 
 
+LABELS = ("short", "full")
+VIEWS = ("auto", "full")
+
+
 def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, footer=True,
-                       mass_lines=True, hatch=True, samples=None, figsize=FIGSIZE):
+                       mass_lines=True, hatch=True, samples=None, figsize=FIGSIZE, labels="short", view="auto"):
     """Draw the constraint diagram of a requirement file.
 
     Parameters
@@ -96,6 +103,10 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     hatch : hatch the infeasible side of every requirement
     samples : wing loadings sampled per curve (None: see :func:`diagram_data`)
     figsize : size of a new figure [in]
+    labels : "short" (the id) or "full" (the id and its condition: altitude, Mach or
+        airspeed, load factor, weight fraction)
+    view : "auto" (axes zoomed on the design point, the active curves and the feasible
+        region near them) or "full" (every W/S limit and every curve's minimum)
 
     Returns
     -------
@@ -104,7 +115,9 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     """
     from matplotlib.figure import Figure
 
-    data = diagram_data(spec, result, units=units, samples=samples)
+    if labels not in LABELS:
+        raise ValueError(f"labels must be one of {', '.join(LABELS)}, got {labels!r}")
+    data = diagram_data(spec, result, units=units, samples=samples, view=view)
     u = _units(units, data.propeller)
     own = ax is None
     if own:
@@ -146,18 +159,20 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     if mass_lines:
         _draw_mass_lines(ax, data, u, h)
 
-    # requirement curves, hatching on the infeasible side
+    # requirement curves, hatching on the infeasible side; a part drawn bold only where the
+    # design sits on it (an active requirement's other part stays plain)
     placer = Placer(ax)
     lw = {True: 2.8, False: 1.6}
     for c in data.curves:
-        colour, marker, ls = curve_style(c.index)
+        st = data.styles[c.id]
+        colour, marker, ls = st.colour, st.marker, st.linestyle
         hatch_kw = dict(facecolor="none", edgecolor=colour, linewidth=0.0, alpha=0.55, zorder=2)
         if c.thrust is not None:
             Yd = np.where(np.isfinite(c.thrust), c.thrust * u.y, np.nan)
             Yd = np.where(Yd < clip_hi, Yd, np.nan)
-            h.curves[c.id], = ax.plot(X, Yd, color=colour, lw=lw[c.active], ls=ls, marker=marker,
-                                      markersize=5.5, markevery=(0.06 + 0.035 * (c.index % 5), 0.22),
-                                      markerfacecolor="white", markeredgewidth=1.3, zorder=3 + c.active)
+            h.curves[c.id], = ax.plot(X, Yd, color=colour, lw=lw[c.thrust_active], ls=ls, marker=marker,
+                                      markersize=5.5, markevery=(0.06 + 0.035 * (st.slot % 5), 0.22),
+                                      markerfacecolor="white", markeredgewidth=1.3, zorder=3 + c.thrust_active)
             placer.add_line(c.id, X, Yd)
             band = 0.028 * y_span
             placer.add_line(("hatch", c.id), X, Yd - 0.6 * band)
@@ -166,13 +181,16 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
         if c.boundary is not None and xl <= c.boundary * u.x <= xh:
             b = c.boundary * u.x
             alone = c.thrust is None        # a pure W/S limit; else the lift limit of a thrust kind
-            h.limits[c.id] = ax.axvline(b, color=colour, lw=lw[c.active] if alone else 1.3,
-                                        ls=ls if alone else (0, (5, 2.5)), zorder=3 + c.active)
+            h.limits[c.id] = ax.axvline(b, color=colour, lw=lw[c.limit_active] if alone else
+                                        (2.4 if c.limit_active else 1.3),
+                                        ls=ls if alone else (0, (5, 2.5)), zorder=3 + c.limit_active)
             placer.add_line(c.id if alone else f"{c.id}:limit", np.full(50, b), np.linspace(yl, yh, 50))
             if hatch:
                 thin(ax.fill_betweenx([yl, yh], b, b + 0.016 * x_span, hatch="\\\\\\\\", **hatch_kw))
     for k, (m, line) in enumerate(h.mass_lines):
         placer.add_line(("mass", m, k), line.get_xdata(), line.get_ydata())
+    if data.references:
+        _draw_references(ax, data, u, h, placer)
 
     # design point (placed first so labels keep clear of it)
     if data.design is not None:
@@ -180,14 +198,15 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     else:
         _draw_no_design(ax, data, placer)
 
-    _label_curves(ax, data, h, placer)
+    _label_curves(ax, data, h, placer, full=labels == "full")
+    _label_references(ax, h, placer)
     if mass_lines:
-        h.no_closure = _draw_no_closure(ax, data, u, placer)
+        h.no_closure = _draw_no_closure(ax, data, u, placer, h)
     if h.feasible is not None:
         WW, YY = np.meshgrid(data.mass_W_S, data.mass_Y)
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(data.mass) & (YY >= np.interp(WW, data.W_S, env)) & (WW <= lim)
-        _label_region(ax, placer, data, u, ok, "feasible", fontsize=FONT["label"], color="#4a6b85",
+        _label_region(ax, placer, data, u, ok, "feasible", h, fontsize=FONT["label"], color="#4a6b85",
                       style="italic")
     if mass_lines:
         _label_mass_lines(ax, h, placer, u)
@@ -211,7 +230,7 @@ def _draw_mass_lines(ax, data, u, h):
             h.mass_lines.append((float(level), line))
 
 
-def _draw_no_closure(ax, data, u, placer):
+def _draw_no_closure(ax, data, u, placer, h=None):
     """Grey out where no takeoff mass closes the weights (boundary interpolated)."""
     bad = ~np.isfinite(data.mass)
     if not np.any(bad):
@@ -219,57 +238,119 @@ def _draw_no_closure(ax, data, u, placer):
     rest = np.where(np.isfinite(data.closure_rest), data.closure_rest, -1.0)
     cs = ax.contourf(data.mass_W_S * u.x, data.mass_Y * u.y, rest, levels=[-1e9, 1e-3],
                      colors=[NO_CLOSURE_FILL], zorder=0.6)
-    _label_region(ax, placer, data, u, bad, "weight does not close", fontsize=FONT["mass"], color=MASS_COLOUR)
+    _label_region(ax, placer, data, u, bad, "weight does not close", h, fontsize=FONT["mass"],
+                  color=MASS_COLOUR)
     return cs
 
 
-def _label_region(ax, placer, data, u, ok, text, **style):
+def _label_region(ax, placer, data, u, ok, text, h=None, **style):
     """Name a region (a mask on the mass grid) in its least crowded spot."""
-    WW, YY = (g[::6, ::6] for g in np.meshgrid(data.mass_W_S, data.mass_Y))
-    ok = ok[::6, ::6]
+    WW, YY = (g[::4, ::4] for g in np.meshgrid(data.mass_W_S, data.mass_Y))
+    ok = ok[::4, ::4]
     pts = ax.transData.transform(np.column_stack([WW[ok] * u.x, YY[ok] * u.y]))
     spot = placer.free_spot(*placer.size(text, style["fontsize"]), pts)
     if spot is not None:
-        put(ax, placer, spot, text, **style)
+        t = put(ax, placer, spot, text, **style)
+        if h is not None:
+            h.region_labels.append(t)
 
 
 def _label_mass_lines(ax, h, placer, u):
-    """One inline label per mass level, on the least crowded of its line pieces."""
-    for m in dict.fromkeys(m for m, _ in h.mass_lines):
+    """One inline label per mass level, on the least crowded of its line pieces, over no other line
+    (a level with no such place stays unlabelled; the design's own mass is tried first)."""
+    levels = list(dict.fromkeys(m for m, _ in h.mass_lines))
+    design = h.data.design[2] * u.mass if h.data.design is not None else None
+    levels.sort(key=lambda m: design is None or abs(m - design) > 1e-6 * m)
+    for m in levels:
         text = f"{_fmt(m)} {u.mass_unit}"
-        spots = [placer.along(("mass", m, k), *placer.size(text, FONT["mass"]), prefer=0.9, spread=0.35)
+        w, hh = placer.size(text, FONT["mass"], pad=1.5)
+        spots = [placer.inline(("mass", m, k), w, hh, prefer=0.8, spread=0.35)
                  for k, (mk, _) in enumerate(h.mass_lines) if mk == m]
-        spots = [sp for sp in spots if sp is not None and sp[3] < 1000.0]
+        spots = [sp for sp in spots if sp is not None and clear(sp[3])]
         if spots:
-            is_design = h.data.design is not None and abs(m - h.data.design[2] * u.mass) < 1e-6 * m
-            put(ax, placer, min(spots, key=lambda sp: sp[3]), text, fontsize=FONT["mass"], style="italic",
-                 color=DESIGN_COLOUR if is_design else MASS_COLOUR,
-                 bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.9))
+            is_design = design is not None and abs(m - design) < 1e-6 * m
+            spot = min(spots, key=lambda sp: sp[3])
+            t = put(ax, placer, spot, text, fontsize=FONT["mass"], style="italic", rotation=spot[4],
+                    rotation_mode="anchor", color=DESIGN_COLOUR if is_design else MASS_COLOUR,
+                    bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=1.0))
+            h.mass_labels.append((t, m))
 
 
-def _label_curves(ax, data, h, placer):
-    """Each id beside its curve or limit line (drivers first, in bold and boxed)."""
+def _label_curves(ax, data, h, placer, full=False):
+    """Each id beside its curve or limit line, over no other line (drivers first, bold and boxed where
+    the design sits on that part); ``full``: the condition under the id. A label with no clear place
+    beside its line is named in the corner list rather than drawn over another curve."""
     missing = []
     for c in sorted(data.curves, key=lambda c: (not c.active, c.index)):
-        colour, weight = curve_style(c.index)[0], "bold" if c.active else "normal"
-        items = [(c.id, c.id, 0)] if c.thrust is not None else []
+        colour = data.styles[c.id].colour
+        cond = f"\n{c.condition}" if full and c.condition else ""
+        items = [(c.id, c.id + cond, 0, c.thrust_active)] if c.thrust is not None else []
         if c.id in h.limits:
-            items.append((c.id, c.id, 90) if c.thrust is None else (f"{c.id}:limit", f"{c.id} {c.limit_name}", 90))
-        for key, text, rot in items:
-            w, hh = placer.size(text, FONT["label"], weight)
-            spot = placer.along(key, *((hh, w) if rot else (w, hh)), prefer=0.82 if rot else 0.5,
-                                spread=0.3 if rot else 0.35, side=True)
+            items.append((c.id, c.id + cond, 90, c.limit_active) if c.thrust is None else
+                         (f"{c.id}:limit", f"{c.id} {c.limit_name}", 90, c.limit_active))
+        for key, text, rot, bold in items:
+            weight = "bold" if bold else "normal"
+            spot = None
+            # as written, then broken after the id (a shorter box fits between neighbours)
+            for text in dict.fromkeys([text, text.replace(" ", "\n", 1) if "\n" not in text else text]):
+                w, hh = placer.size(text, FONT["label"], weight)
+                for gap in (4.0, 12.0, 22.0):
+                    spot = placer.along(key, *((hh, w) if rot else (w, hh)), prefer=0.82 if rot else 0.5,
+                                        spread=0.3 if rot else 0.35, side=True, gap=gap)
+                    if spot is not None and clear(spot[3]):
+                        break
+                    spot = None
+                if spot is not None:
+                    break
             if spot is None:
-                missing += [c.id] if len(items) == 1 or key.endswith(":limit") and c.id not in h.labels else []
+                missing.append(c.id if not key.endswith(":limit") else f"{c.id} {c.limit_name}")
                 continue
             h.labels[key] = put(ax, placer, spot, text, fontsize=FONT["label"], color=colour, zorder=6,
-                                 fontweight=weight, rotation=rot, rotation_mode="anchor",
-                                 bbox=dict(boxstyle="round,pad=0.2", fc="white", lw=0.8, alpha=0.92,
-                                           ec=colour if c.active else "none"))
-    if missing:     # still named on the plot, never silently dropped
-        h.labels["outside"] = ax.text(0.01, 0.99, "outside the plotted range: " + ", ".join(dict.fromkeys(missing)),
-                                      transform=ax.transAxes, ha="left", va="top", fontsize=FONT["mass"],
-                                      color="#444444", zorder=6)
+                                fontweight=weight, rotation=rot, rotation_mode="anchor", linespacing=1.1,
+                                bbox=dict(boxstyle="round,pad=0.2", fc="white", lw=0.8, alpha=0.92,
+                                          ec=colour if bold else "none"))
+    if missing:     # still named, never silently dropped: a key under the axes, clear of every curve
+        from matplotlib.lines import Line2D
+
+        handles = []
+        for name in dict.fromkeys(missing):
+            st = data.styles[name.split(" ")[0]]
+            handles.append(Line2D([], [], color=st.colour, marker=st.marker, markerfacecolor="white",
+                                  ls=st.linestyle if " " not in name else (0, (5, 2.5)), lw=1.6, label=name))
+        ax.xaxis.set_label_coords(0.0, -0.055)           # the axis name to the left, the key to the right
+        ax.xaxis.label.set(horizontalalignment="left", verticalalignment="top")
+        h.unlabelled = ax.legend(handles=handles, loc="upper right", bbox_to_anchor=(1.0, -0.055),
+                                        ncol=min(len(handles), 3), fontsize=FONT["mass"], frameon=False,
+                                        title="not labelled on the plot (no clear place beside the line)",
+                                        title_fontsize=FONT["mass"] - 0.5, alignment="right", borderaxespad=0.0,
+                                        handlelength=3.0, columnspacing=1.2)
+
+
+def _draw_references(ax, data, u, h, placer):
+    """The file's reference designs: a hollow grey star each (labels after the curves')."""
+    for label, W, Y in data.references:
+        x, y = W * u.x, Y * u.y
+        mk, = ax.plot([x], [y], marker="*", markersize=13, markerfacecolor="white", markeredgecolor="#333333",
+                      markeredgewidth=1.4, ls="none", zorder=7, clip_on=True)
+        px, py = ax.transData.transform((x, y))
+        placer.take((px - 9, py - 9, px + 9, py + 9))
+        h.references[label] = (mk, None)
+
+
+def _label_references(ax, h, placer):
+    for label, (mk, _) in list(h.references.items()):
+        x, y = mk.get_xdata()[0], mk.get_ydata()[0]
+        px, py = ax.transData.transform((x, y))
+        text = f"{label} (reference)"
+        w, hh = placer.size(text, FONT["mass"])
+        cands = [(px + sx * (12 + w / 2), py + sy * (hh / 2 + dy)) for dy in (0, 8, 18, 30)
+                 for sx in (1, -1) for sy in (1, -1)]
+        spot = placer.free_spot(w, hh, cands, pad=1.0)
+        if spot is None:
+            continue
+        t = put(ax, placer, spot, text, fontsize=FONT["mass"], color="#333333", zorder=7,
+                bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.9))
+        h.references[label] = (mk, t)
 
 
 def _draw_design(ax, data, u, h, placer):
@@ -287,11 +368,11 @@ def _draw_design(ax, data, u, h, placer):
     w, hh = placer.size(text, FONT["design"], "bold", pad=6)
     px, py = ax.transData.transform((x, y))
     cands = []       # around the point, nearer and above preferred
-    for dist in (70, 110, 160):
+    for dist in (70, 110, 160, 220, 290):
         for a in np.radians(np.arange(0, 360, 30)):
             cx, cy = px + (dist + w / 2) * math.cos(a), py + (dist + hh / 2) * math.sin(a)
             rect = (cx - w / 2, cy - hh / 2, cx + w / 2, cy + hh / 2)
-            cands.append((placer.cost(rect) + 0.3 * dist + 20.0 * (math.sin(a) < 0), cx, cy, rect))
+            cands.append((placer.cost(rect, soft_mass=True) + 0.3 * dist + 20.0 * (math.sin(a) < 0), cx, cy, rect))
     _c, cx, cy, rect = min(cands, key=lambda t: t[0])
     tx, ty = ax.transData.inverted().transform((cx, cy))
     h.design_label = ax.annotate(
@@ -345,7 +426,7 @@ def _draw_footer(fig, data):
              linespacing=1.35)
 
 
-def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI) -> list:
+def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI, labels="short", view="auto") -> list:
     """Write the constraint diagram (format from the suffix) and optionally the curves CSV.
 
     Returns the list of written paths.
@@ -358,7 +439,7 @@ def write_diagram(spec, res, output, data=None, units="si", *, dpi=DPI) -> list:
     if fmt is None:
         raise InputError(f"cannot tell the format from {out.suffix or 'no suffix'!r}; "
                          f"use one of {', '.join(FORMATS)}", str(output), field="--output")
-    h = constraint_diagram(spec, result=res, units=units)
+    h = constraint_diagram(spec, result=res, units=units, labels=labels, view=view)
     atomic_write(out, figure_bytes(h.figure, fmt, dpi), "wb")
     if data:
         atomic_write(Path(data), curves_csv(h.data), "w")

@@ -9,14 +9,16 @@ from __future__ import annotations
 
 import io
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 from .. import constraints as C
 from .. import weights as Wt
+from ..common.conversions import FT, KN
 from ..problem import tree as M
+from .style import styles_of
 from .style import units_for as _units
 
 # --------------------------------------------------------------------------
@@ -43,6 +45,9 @@ class Curve:
     limit: np.ndarray | None
     boundary: float | None
     limit_name: str = "CLmax"         # what sets the W/S limit of a thrust kind: CLmax or buffet
+    thrust_active: bool = False       # the thrust curve passes through the design point
+    limit_active: bool = False        # the W/S limit sits at the design's wing loading
+    condition: str = ""               # "15,000 ft, M 0.60, W/W_TO 0.85": how the requirement is flown
 
 
 @dataclass(frozen=True)
@@ -65,6 +70,9 @@ class DiagramData:
     infeasibility: object = None
     source: str = ""
     sha256: str = ""
+    styles: dict = field(default_factory=dict)        # id -> style.IdStyle (one per id in every figure)
+    references: tuple = ()            # (label, W/S [N/m^2], T/W or P/W [W/N]) the file lists
+    view: str = "auto"                # "auto": zoomed on what matters; "full": every curve's minimum
 
     def envelope(self):
         """(required Y at each W/S over all thrust curves, lowest W/S boundary)."""
@@ -196,15 +204,22 @@ def _nice_ceil(x):
     return math.ceil(x / step - 1e-9) * step
 
 
-def _ranges(spec, result, u, takeoff_mass=None):
-    """(x range [N/m^2], y range) around the design point, design_space first."""
+def _ranges(spec, result, u, takeoff_mass=None, full=False):
+    """(x range [N/m^2], y range) around the design point, design_space first.
+
+    Zoomed (``full=False``): wing loading up to about 1.8 x the design's, taking in the
+    W/S limits near it, T/W (P/W) up to about 1.7 x the design's, so the design point,
+    the active curves and the feasible region near them fill the axes. ``full=True``:
+    every W/S limit and every curve's minimum in view.
+    """
     ds = spec.model.design_space
     box_x = tuple(float(v) for v in ds.wing_loading) if ds and ds.wing_loading else None
     yb = (ds.power_to_weight if spec.is_propeller else ds.thrust_to_weight) if ds else None
     box_y = tuple(float(v) for v in yb) if yb else None
     coarse = np.geomspace(max((box_x or (100.0,))[0], 1.0), (box_x or (0, 15000.0))[1], 120)
     env, bounds, minima = np.zeros_like(coarse), [], []
-    for t, lim in sample_requirements(spec, coarse, exact=False, takeoff_mass=takeoff_mass).values():
+    curves = sample_requirements(spec, coarse, exact=False, takeoff_mass=takeoff_mass).values()
+    for t, lim in curves:
         if t is not None:
             env = np.maximum(env, np.where(np.isfinite(t), t, np.inf))
         b = _boundary(coarse, lim)
@@ -218,19 +233,69 @@ def _ranges(spec, result, u, takeoff_mass=None):
         Y0 = float(np.interp(W0, coarse, np.where(np.isfinite(env), env, np.nan)))
         if not np.isfinite(Y0):
             Y0 = 0.5 * (box_y[1] if box_y else (100.0 if spec.is_propeller else 2.0))
-    x_hi = max([2.0 * W0] + [1.12 * b for b in bounds if b <= 3.0 * W0])    # show nearby limits
+    if full:
+        at_min = [float(coarse[np.nanargmin(np.where(np.isfinite(t), t, np.nan))]) for t, _ in curves
+                  if t is not None and np.isfinite(t).any()]
+        x_hi = max([2.0 * W0] + [1.12 * b for b in bounds] + [1.25 * x for x in at_min])
+    else:
+        x_hi = max([1.8 * W0] + [1.1 * b for b in bounds if b <= 2.0 * W0])    # the nearby limits
     x_hi = _nice_ceil(x_hi * u.x) / u.x
     x_range = box_x or (0.0, x_hi)
     look = np.linspace(max(x_range[0], x_range[1] / 60), x_range[1], 40)
     for t, lim in sample_requirements(spec, look, exact=False, takeoff_mass=takeoff_mass).values():
         if t is not None and np.any(np.isfinite(t)):
             minima.append(float(np.nanmin(np.where(np.isfinite(t), t, np.nan))))
-    y_hi = max(1.9 * Y0, 1.2 * max(minima, default=0.0), 1e-6)
+    y_hi = max(1.9 * Y0 if full else 1.6 * Y0, (1.2 if full else 1.05) * max(minima, default=0.0), 1e-6)
     y_hi = _nice_ceil(y_hi * u.y) / u.y
     return x_range, box_y or (0.0, y_hi)
 
 
-def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)) -> DiagramData:
+def condition_text(r: dict, beta=None) -> str:
+    """How a requirement is flown, for a curve label: altitude, Mach or airspeed, load factor,
+    temperature, configuration, engines out, weight fraction (r: the SI tree's requirement)."""
+    alt = float(r.get("altitude", 0.0) or 0.0)
+    parts = ["sea level" if alt == 0.0 else f"{alt / FT:,.0f} ft"]
+    if r.get("mach") is not None:
+        parts.append(f"M {float(r['mach']):.2f}")
+    for key, name in (("speed", "TAS"), ("cas", "CAS"), ("eas", "EAS")):
+        if r.get(key) is not None and not isinstance(r.get(key), dict):
+            parts.append(f"{float(r[key]) / KN:,.0f} kn {name}")
+    if r.get("load_factor") is not None:
+        parts.append(f"{float(r['load_factor']):g} g")
+    if r.get("temperature_offset"):
+        parts.append(f"ISA{float(r['temperature_offset']):+g} K")
+    if r.get("config") not in (None, "clean"):
+        parts.append(str(r["config"]))
+    if r.get("engines_out"):
+        parts.append(f"{float(r['engines_out']):g} engine{'s' if float(r['engines_out']) > 1 else ''} out")
+    if beta is not None:
+        parts.append(f"W/W_TO {float(beta):.2f}")
+    return ", ".join(parts)
+
+
+def _active_parts(spec, result, takeoff_mass, tol=1e-3):
+    """{id: (thrust curve active, W/S limit active)} at the design point: which part of an active
+    requirement the design sits on (re-evaluated at the design's wing loading)."""
+    if result is None or not result.feasible:
+        return {}
+    d = result.design
+    W0, Y0 = d.wing_loading, d.power_to_weight if result.propeller else d.thrust_to_weight
+    at = sample_requirements(spec, np.array([W0]), takeoff_mass=takeoff_mass)
+    out = {}
+    for r in result.requirements:
+        if not r.active:
+            continue
+        t, lim = at[r.id]
+        mt = abs(float(t[0]) / Y0 - 1.0) if t is not None and np.isfinite(t[0]) else math.inf
+        ml = abs(W0 / float(lim[0]) - 1.0) if lim is not None and np.isfinite(lim[0]) else math.inf
+        on_t, on_l = mt < tol, ml < tol
+        if not (on_t or on_l):          # met with equality by a row the diagram does not draw alone
+            on_t, on_l = mt <= ml, ml < mt
+        out[r.id] = (on_t, on_l)
+    return out
+
+
+def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120), view="auto") -> DiagramData:
     """Sample every requirement and the weight closure for the diagram.
 
     Parameters
@@ -240,23 +305,30 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
     units : "si" or "us" (only the automatic axis rounding depends on it)
     samples : number of wing loadings sampled for the curves (default 301)
     grid : (wing loadings, T/W values) of the constant-mass grid
+    view : "auto" (axes zoomed on the design point and the curves that matter) or "full"
+        (every W/S limit and every curve's minimum; ``--range full``)
     """
+    if view not in ("auto", "full"):
+        raise ValueError(f"view must be 'auto' or 'full', got {view!r}")
     u = _units(units, spec.is_propeller)
     if result is None:
         from ..problem import solve
 
         result = solve(spec)
     mass = takeoff_mass_for(spec, result) if M.needs_takeoff_mass(M.spec_tree(spec)) else None
-    x_range, y_range = _ranges(spec, result, u, mass)
+    x_range, y_range = _ranges(spec, result, u, mass, full=view == "full")
     x0 = x_range[0] if x_range[0] > 0 else x_range[1] / 200.0
     if samples is None:
         samples = 301
     W_S = np.linspace(x0, x_range[1], int(samples))
     sampled = sample_requirements(spec, W_S, takeoff_mass=mass)
     active = {r.id for r in result.requirements if r.active}
+    parts = _active_parts(spec, result, mass)
+    betas = {r.id: r.beta for r in result.requirements}
     tree = M.spec_tree(spec)
     curves = [Curve(rid, spec.requirement(rid).kind, i, rid in active, t, lim, _boundary(W_S, lim),
-                    _limit_name(tree, rid, mass))
+                    _limit_name(tree, rid, mass), *parts.get(rid, (False, False)),
+                    condition_text(tree["requirements"][rid], betas.get(rid)))
               for i, (rid, (t, lim)) in enumerate(sampled.items())]
     mW = np.linspace(x0, x_range[1], grid[0])
     mY = np.linspace(y_range[0], y_range[1], grid[1])
@@ -270,7 +342,17 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
                        mass_W_S=mW, mass_Y=mY, mass=mass, closure_rest=rest,
                        drivers=tuple(result.drivers), on_edge=tuple(result.on_edge),
                        infeasibility=result.infeasibility, source=Path(str(spec.path)).name,
-                       sha256=spec.sha256)
+                       sha256=spec.sha256, styles=styles_of(spec), references=reference_points(spec),
+                       view=view)
+
+
+def reference_points(spec) -> tuple:
+    """(label, W/S [N/m^2], T/W or P/W [W/N]) of the reference designs the file lists (``references``)."""
+    out = []
+    for ref in getattr(spec.model, "references", None) or ():
+        y = ref.power_to_weight if spec.is_propeller else ref.thrust_to_weight
+        out.append((ref.label, float(ref.wing_loading), float(y)))
+    return tuple(out)
 
 
 def curves_csv(data: DiagramData) -> str:

@@ -12,7 +12,7 @@ lapse, configuration, throttle) with its margin.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -26,6 +26,7 @@ from ..physics.propulsion import is_propeller
 from ..problem import tree as M
 from .coffin import CoffinCorner, Zoom, buffet_lift, coffin_corner, energy_height, zoom_ceiling
 from .performance import Boundary, Conditions, Flight, domain_mach, maximise
+from .style import styles_of
 
 SERVICE_CLIMB_RATE = C.SERVICE_CEILING_CLIMB_RATE      # 100 ft/min = 0.508 m/s
 ON_BOUNDARY_TOL = 1e-4     # relative: a capability this close to its requirement sits on its boundary
@@ -89,6 +90,7 @@ class Envelope:
     zoom: Zoom | None = None                 # largest energy height of the 1 g envelope
     energy: np.ndarray | None = None         # energy height h + V^2/(2 g0) [m] over the altitude x mach grid
     speed_limit_text: str = "speed limit"
+    styles: dict = field(default_factory=dict)   # id -> style.IdStyle (the same in every figure)
 
     def to_frame(self):
         """The envelope table as a pandas DataFrame, one row per quantity."""
@@ -345,7 +347,8 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
                     if lims else None, table_limit=table, absolute_ceiling=abs_c, service_ceiling=svc_c,
                     points=tuple(points), rows=tuple(rows), notes=tuple(notes), coffin=cc, zoom=zoom,
                     energy=energy_height(H, Mg * np.asarray(isa(H).speed_of_sound, dtype=float)),
-                    speed_limit_text=speed_limit_text(ac))
+                    speed_limit_text=speed_limit_text(ac),
+                    styles=styles_of(spec))
 
 
 def speed_limit_text(ac) -> str:

@@ -15,8 +15,10 @@ from .envelope import Envelope, nice_step, status_text
 
 _SUFFIXES = (".png", ".svg", ".pdf")
 _PLOT_OPTIONS = ("contours", "energy", "coffin", "own_boundaries", "details", "title", "caution")
-_COLOURS = ("#1f5fa8", "#c2571a", "#2e8b57", "#8e44ad", "#b8860b", "#c0392b", "#16a0a0", "#7f5539")
-_BLUES = ("#6a9bc6", "#3f74a8", "#285a8c", "#173f6b", "#0b2447")
+_COLOURS = ("#444444",)       # a requirement without a style (never in a file's own run)
+# chart furniture in greys and browns: the palette's colours belong to the requirement ids
+_BLUES = ("#a8a8a8", "#808080", "#5c5c5c", "#3a3a3a", "#1e1e1e")
+_STALL, _ZOOM, _BAND, _ENERGY = "#7b4a12", "#333333", "#4d4d4d", "#8c8c8c"
 
 
 def _place_labels(ax, items, obstacles):
@@ -101,10 +103,10 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         step_ft = nice_step(float(np.nanmax(env.energy)) / FT, 6)
         lv = np.arange(step_ft, float(np.nanmax(env.energy)) / FT, step_ft) * FT
         if len(lv):
-            ce = h["energy"] = ax.contour(env.mach, env.altitude * kft, env.energy, levels=lv, colors="#6d9b6d",
+            ce = h["energy"] = ax.contour(env.mach, env.altitude * kft, env.energy, levels=lv, colors=_ENERGY,
                                           linewidths=0.6, linestyles=[(0, (6, 2, 1, 2))], zorder=1)
             ax.clabel(ce, fmt=lambda v: f"he {v / FT / 1000:g}k", fontsize=6.5, inline=True)
-            style.append((Line2D([], [], color="#6d9b6d", lw=0.6, ls=(0, (6, 2, 1, 2))),
+            style.append((Line2D([], [], color=_ENERGY, lw=0.6, ls=(0, (6, 2, 1, 2))),
                           f"energy height h + V²/2g, every {step_ft:,.0f} ft"))
     for i, b in enumerate(env.turns):
         col = _BLUES[min(i, len(_BLUES) - 1)]
@@ -125,13 +127,13 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
         nxt = (b.lo[k + 1], b.altitude[k + 1]) if k + 1 < len(b.lo) and np.isfinite(b.lo[k + 1]) else \
             ((b.top[1], b.top[0]) if b.top else (np.nan, np.nan))
         (h["stall"],) = ax.plot(np.append(b.lo[ok], nxt[0]), np.append(b.altitude[ok], nxt[1]) * kft,
-                                color="#a23b3b", lw=1.6, ls=(0, (5, 2)), zorder=4)
+                                color=_STALL, lw=1.6, ls=(0, (5, 2)), zorder=4)
         style.append((h["stall"], "1 g stall (CLmax clean)"))
     if cc is not None:        # the low-speed edge above the 1 g region and the Mach limit, up to where they meet
         hi_h = cc.altitude[cc.altitude > env.altitude[-1] - 1.0]
         lift = np.isfinite(env.level.lo) & env.level.lo_is_lift      # where the stall already bounds the 1 g region
         above = cc.altitude >= (env.level.altitude[lift][-1] if lift.any() and cc.low_kind.startswith("stall") else -1e9)
-        (h["coffin"],) = ax.plot(cc.low[above], cc.altitude[above] * kft, color="#a23b3b", lw=0.9, ls=(0, (2, 2)),
+        (h["coffin"],) = ax.plot(cc.low[above], cc.altitude[above] * kft, color=_STALL, lw=0.9, ls=(0, (2, 2)),
                                  zorder=3)
         if len(hi_h):
             hi_m = cc.high[cc.altitude > env.altitude[-1] - 1.0]
@@ -139,23 +141,23 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
             ax.fill_betweenx(hi_h * kft, hi_m, np.maximum(hi_m, top), fc="none", ec="#c4c4c4", hatch="///", lw=0.0,
                              zorder=0.5)
         if cc.meet is not None and cc.meet[0] <= y_top:
-            ax.plot([cc.meet[1]], [cc.meet[0] * kft], "v", ms=8, mfc="#a23b3b", mec="black", zorder=7)
+            ax.plot([cc.meet[1]], [cc.meet[0] * kft], "v", ms=8, mfc=_STALL, mec="black", zorder=7)
             n_items.append((cc.meet[1], cc.meet[0] * kft, f"coffin corner {cc.meet[0] / FT:,.0f} ft", "#7a2020", None))
         if cc.narrowest is not None:
             hn, w, wv, lo, hi = cc.narrowest
             h["narrowest"] = ax.annotate("", (hi, hn * kft), xytext=(lo, hn * kft), arrowprops={
-                "arrowstyle": "<->", "color": "#7a2fc7", "lw": 1.1, "shrinkA": 0, "shrinkB": 0}, zorder=6)
-            n_items.append((0.5 * (lo + hi), hn * kft, f"narrowest band M {w:.3f} ({wv / KN:,.0f} kn TAS)", "#7a2fc7",
+                "arrowstyle": "<->", "color": _BAND, "lw": 1.1, "shrinkA": 0, "shrinkB": 0}, zorder=6)
+            n_items.append((0.5 * (lo + hi), hn * kft, f"narrowest band M {w:.3f} ({wv / KN:,.0f} kn TAS)", _BAND,
                             None))
-        style.append((Line2D([], [], color="#a23b3b", lw=0.9, ls=(0, (2, 2))),
+        style.append((Line2D([], [], color=_STALL, lw=0.9, ls=(0, (2, 2))),
                       f"1 g {cc.low_kind} up to the coffin corner"))
     if opt["energy"] and env.zoom is not None:
         z = env.zoom
         y_arrow = min(z.energy_height, y_top * 0.985)
         h["zoom"] = ax.annotate("", (z.mach, y_arrow * kft), xytext=(z.mach, z.altitude * kft),
-                                arrowprops={"arrowstyle": "->", "color": "#2e6b2e", "lw": 1.2}, zorder=6)
+                                arrowprops={"arrowstyle": "->", "color": _ZOOM, "lw": 1.2}, zorder=6)
         n_items.append((z.mach, y_arrow * kft, f"zoom ≤ {z.energy_height / FT:,.0f} ft" +
-                        ("" if z.energy_height <= y_top else " (above)"), "#2e6b2e", None))
+                        ("" if z.energy_height <= y_top else " (above)"), _ZOOM, None))
     if env.speed_limit is not None:
         lm, lh = env.speed_limit
         (h["speed_limit"],) = ax.plot(lm, lh * kft, color="#555555", lw=1.2, ls="-.", zorder=4)
@@ -175,8 +177,9 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
                                                                  "boxstyle": "round,pad=0.1"}))
     entries, items = [], []
     for i, pt in enumerate(env.points):
-        col = _COLOURS[i % len(_COLOURS)]
-        mk, face, size = ("X", "#d62728", 10) if not pt.met else ("D" if pt.on_boundary else "o", col, 8)
+        st = env.styles.get(pt.id)
+        col = st.colour if st is not None else _COLOURS[0]
+        mk, face, size = ("X", col, 11) if not pt.met else ("D" if pt.on_boundary else "o", col, 8)
         (ln,) = ax.plot([pt.mach], [pt.altitude * kft], marker=mk, ms=size, mfc=face, mec="black", mew=0.8,
                         ls="none", zorder=7, clip_on=False)
         h["points"][pt.id] = ln

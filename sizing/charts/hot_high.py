@@ -22,7 +22,7 @@ design takeoff mass is the structural maximum).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import SimpleNamespace
 
 import numpy as np
@@ -34,6 +34,7 @@ from ..common.conversions import FT
 from ..common.errors import InputError
 from ..physics.atmosphere import g0, isa
 from ..problem import tree as M
+from .style import styles_of
 
 ZERO_C = 273.15
 DEFAULT_ELEVATIONS = tuple(h * FT for h in (0.0, 2000.0, 4000.0, 6000.0, 8000.0, 10000.0))
@@ -84,6 +85,7 @@ class WatChart:
     cells: tuple               # WatCell per (elevation, temperature), elevation-major
     curves: tuple = ()         # per elevation: (OAT [K] array, mass [kg] array, limiting ids) on a finer grid
     notes: tuple = ()
+    styles: dict = field(default_factory=dict)   # id -> style.IdStyle (the same in every figure)
 
     def cell(self, i, j) -> WatCell:
         return self.cells[i * len(self.temperatures) + j]
@@ -238,4 +240,5 @@ def compute_wat(spec, res, elevations=None, temperatures=None, curve_points=10) 
         notes.append(f"above the range: every requirement met up to {MASS_RANGE[1]:g} x the design takeoff mass")
     return WatChart(title=res.title, design_mass=float(d.takeoff_mass), payload=float(d.payload_mass),
                     fuel=float(d.fuel_mass), requirements=tuple(reqs), elevations=hs, temperatures=ts,
-                    cells=tuple(cells), curves=tuple(curves), notes=tuple(dict.fromkeys(notes)))
+                    cells=tuple(cells), curves=tuple(curves), notes=tuple(dict.fromkeys(notes)),
+                    styles=styles_of(spec))

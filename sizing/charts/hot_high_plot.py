@@ -7,9 +7,11 @@ from ..common.caution import CAUTION
 from ..common.conversions import FT
 from .files import write_chart
 from .hot_high import ZERO_C, WatChart
-from .style import MARKERS, PALETTE, add_footer, figure_bytes, new_axes
+from .style import MARKERS, add_footer, figure_bytes, new_axes
 
 _OPTIONS = ("title", "caution")
+# elevations are ordered: light to dark grey-brown (the palette's colours belong to the requirement ids)
+_ELEVATION = ("#c9b79c", "#a88f6a", "#87693f", "#64481f", "#3f2a0c", "#1f1405")
 
 
 def plot_wat(chart: WatChart, ax=None, **kwargs):
@@ -28,7 +30,10 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
         ax = new_axes(figsize=(10.0, 6.4), rect=(0.09, 0.2, 0.78, 0.66))
     fig = ax.figure
     h = {"figure": fig, "ax": ax, "lines": {}, "marks": {}}
-    marker = {rid: MARKERS[i % len(MARKERS)] for i, rid in enumerate(chart.requirements)}
+    marker = {rid: (chart.styles[rid].marker if rid in chart.styles else MARKERS[i % len(MARKERS)])
+              for i, rid in enumerate(chart.requirements)}
+    idcol = {rid: (chart.styles[rid].colour if rid in chart.styles else "#444444") for rid in chart.requirements}
+    n_el = len(chart.elevations)
     finite = [m for _, ms, _ in chart.curves for m in ms if np.isfinite(m) and m > 0]
     lo, hi = min(finite + [chart.design_mass]), max(finite + [chart.design_mass])
     pad = 0.08 * (hi - lo or chart.design_mass)
@@ -36,7 +41,7 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
     t0, t1 = min(chart.temperatures) - ZERO_C, max(chart.temperatures) - ZERO_C
     ax.set_xlim(t0 - 0.03 * (t1 - t0 or 10.0), t1 + 0.16 * (t1 - t0 or 10.0))     # room for the line names
     for i, (h_el, (T, m, by)) in enumerate(zip(chart.elevations, chart.curves)):
-        col = PALETTE[i % len(PALETTE)]
+        col = _ELEVATION[min(int(round(i * (len(_ELEVATION) - 1) / max(n_el - 1, 1))), len(_ELEVATION) - 1)]
         x = T - ZERO_C
         (ln,) = ax.plot(x, np.where(np.isfinite(m) & (m > 0), m, np.nan), color=col, lw=1.8, zorder=3,
                         label=f"{h_el / FT:,.0f} ft ({h_el:,.0f} m)")
@@ -44,7 +49,7 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
         table_T = set(chart.temperatures)
         for xt, mt, rid in zip(x, m, by):
             if xt + ZERO_C in table_T and np.isfinite(mt) and mt > 0 and rid:
-                ax.plot([xt], [mt], marker[rid], ms=6.5, mfc="white", mec=col, mew=1.4, zorder=4)
+                ax.plot([xt], [mt], marker[rid], ms=7.5, mfc="white", mec=idcol[rid], mew=1.6, zorder=4)
         ax.annotate(f"{h_el / FT:,.0f} ft", (x[-1], m[-1]), xytext=(5, 0), textcoords="offset points", fontsize=8,
                     color=col, va="center", annotation_clip=False)
     h["design"] = ax.axhline(chart.design_mass, color="#111111", lw=1.2, ls="--", zorder=2,
@@ -56,7 +61,7 @@ def plot_wat(chart: WatChart, ax=None, **kwargs):
                     va="bottom", color="#8a3a3a")
     limiting = {c.limited_by for c in chart.cells if c.limited_by}
     for rid, mk in ((r, mk) for r, mk in marker.items() if r in limiting):
-        ax.plot([], [], mk, ms=6.5, mfc="white", mec="#444444", mew=1.4, ls="none", label=f"limited by {rid}")
+        ax.plot([], [], mk, ms=7.5, mfc="white", mec=idcol[rid], mew=1.6, ls="none", label=f"limited by {rid}")
     ax.set_xlabel("outside air temperature [°C]")
     ax.set_ylabel("largest takeoff mass [kg]")
     ax.secondary_xaxis("top", functions=(lambda c: c * 1.8 + 32.0, lambda f: (f - 32.0) / 1.8)).set_xlabel(

@@ -8,17 +8,26 @@ from __future__ import annotations
 
 import io
 from collections import namedtuple
+from dataclasses import dataclass
 
 from ..common.conversions import HP, LB, LBF_FT2, N_PER_LBF
 
-# Six line colours picked for this project: each has at least 3:1 contrast
-# on white (WCAG 2.1 non-text contrast) and every pair stays at least
-# Delta E 20 (CIE76) apart under simulated protanopia, deuteranopia and
-# tritanopia (checked in tests/test_plots.py). Curves are labelled on the
-# plot and carry a marker too, so no reading depends on colour alone.
-PALETTE = ("#225599", "#bb2233", "#1f95a8", "#968a14", "#7a2fc7", "#83385a")
-MARKERS = ("o", "s", "^", "D", "v", "P", "X")
-LINESTYLES = ("-", (0, (7, 2.5)), (0, (1.5, 1.5)))   # after every six requirements
+# Eight line colours picked for this project: each has at least 3:1 contrast on
+# white (WCAG 2.1 non-text contrast) and every pair stays at least Delta E*ab 20
+# (CIE76) apart under simulated protanopia, deuteranopia and tritanopia (Machado et
+# al. 2009; checked in tests/test_plots.py with our written-out matrices and with
+# the colorspacious library). Every requirement id keeps one colour, one marker and
+# one line style in every figure of a run (:func:`requirement_styles`), so no
+# reading depends on colour alone: in greyscale the marker and the label tell.
+PALETTE = ("#225599", "#bb2233", "#1f95a8", "#968a14", "#7a2fc7", "#83385a", "#9977dd", "#779977")
+MARKERS = ("o", "s", "^", "D", "v", "P", "X", "h", "<", ">")
+LINESTYLES = ("-", (0, (7, 2.5)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)))   # after every eight requirements
+# the colour slot a requirement kind asks for first (the same kind keeps its colour
+# from file to file where the file has no two of it)
+KIND_SLOTS = {"stall-speed": 0, "takeoff": 1, "cruise": 2, "max-mach": 2, "ceiling": 3, "climb": 4,
+              "climb-gradient": 4, "excess-power": 4, "landing": 5, "sustained-turn": 6,
+              "instantaneous-turn": 6, "approach-speed": 7}
+NEUTRAL = "#5a5a5a"           # what is not a requirement (mission fuel as a driver, chart furniture)
 FEASIBLE_FILL = "#e4eef6"
 NO_CLOSURE_FILL = "#efefef"     # where the weight closure has no solution
 MASS_COLOUR = "#6b6b6b"
@@ -59,9 +68,61 @@ def figure_bytes(fig, fmt="png", dpi=DPI, tight=False) -> bytes:
     return buf.getvalue()
 
 
-def curve_style(i):
-    """(colour, marker, line style) of the i-th requirement of a file."""
-    return PALETTE[i % len(PALETTE)], MARKERS[i % len(MARKERS)], LINESTYLES[(i // len(PALETTE)) % len(LINESTYLES)]
+@dataclass(frozen=True)
+class IdStyle:
+    """How one requirement id is drawn in every figure: colour, marker, line style."""
+
+    colour: str
+    marker: str
+    linestyle: object
+    slot: int                     # colour index + len(PALETTE) x line-style round
+
+
+MISSION_FUEL = IdStyle(NEUTRAL, "*", (0, (3, 1.5)), -1)
+
+
+def requirement_styles(requirements) -> dict:
+    """{id: IdStyle} for (id, kind) pairs in file order: one colour, marker and line style per id.
+
+    Each id first asks for its kind's colour (:data:`KIND_SLOTS`, in file order);
+    ids whose colour is taken get the next free one; past eight requirements the
+    colours repeat with the next line style, so no two ids share colour and line style.
+
+    >>> s = requirement_styles([("stall", "stall-speed"), ("tow", "takeoff"), ("roll", "takeoff")])
+    >>> s["stall"].colour == PALETTE[0], s["tow"].colour == PALETTE[1], s["roll"].colour == PALETTE[2]
+    (True, True, True)
+    """
+    pairs = [(str(rid), kind) for rid, kind in requirements]
+    n, taken, slot = len(PALETTE), set(), {}
+    for rid, kind in pairs:             # first pass: the kind's own colour where it is free
+        want = KIND_SLOTS.get(kind)
+        if want is not None and want not in taken and rid not in slot:
+            slot[rid] = want
+            taken.add(want)
+    for rid, kind in pairs:             # second pass: the next free colour, then the next line style
+        if rid in slot:
+            continue
+        start = KIND_SLOTS.get(kind, 0)
+        s = next(r * n + (start + k) % n for r in range(len(pairs) + 1) for k in range(n)
+                 if r * n + (start + k) % n not in taken)
+        slot[rid] = s
+        taken.add(s)
+    out = {}
+    for rid, _ in pairs:
+        s = slot[rid]
+        c, r = s % n, s // n
+        out[rid] = IdStyle(PALETTE[c], MARKERS[(c + r * n) % len(MARKERS)], LINESTYLES[r % len(LINESTYLES)], s)
+    return out
+
+
+def styles_of(spec) -> dict:
+    """{id: IdStyle} of a requirement file (:func:`requirement_styles` in its order)."""
+    return requirement_styles((r.id, r.kind) for r in spec.requirements)
+
+
+def driver_style(styles, name):
+    """The style of a driver name: a requirement's own, or the neutral one (mission fuel)."""
+    return styles.get(name, MISSION_FUEL)
 
 
 def new_axes(figsize=(10.0, 6.6), rect=(0.085, 0.2, 0.83, 0.68)):

@@ -18,7 +18,7 @@ radius. Mach runs from the 1 g stall to the Mach limit (speed limit or polar tab
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -29,6 +29,7 @@ from ..physics.atmosphere import H_MAX, g0, isa
 from ..problem import tree as M
 from .loads import compute_vn
 from .performance import Conditions, Flight, domain_mach, maximise
+from .style import styles_of
 
 DEG = 180.0 / math.pi
 
@@ -101,6 +102,7 @@ class TurnChart:
     cl_max: float
     levels: tuple          # the altitudes, :class:`TurnAltitude` each
     notes: tuple = ()
+    styles: dict = field(default_factory=dict)   # id -> style.IdStyle (the same in every figure)
 
     def to_frame(self):
         """One row per altitude and Mach; units in the column names."""
@@ -257,4 +259,5 @@ def compute_turn(spec, res, altitudes=None, weight_fraction=None, machs=161, rat
         raise InputError("no altitude given leaves a speed range to turn in; choose lower altitudes", field="--altitude")
     return TurnChart(title=res.title, weight_fraction=B, n_limit=vn.n_positive,
                      n_limit_source=f"{vn.category} category: {vn.n_positive_source}", cl_max=vn.cl_max,
-                     levels=tuple(levels), notes=tuple(notes))
+                     levels=tuple(levels), notes=tuple(notes),
+                     styles=styles_of(spec))

@@ -7,10 +7,11 @@ from ..common.caution import CAUTION, LOADS_CAUTION
 from ..common.conversions import FT, KN
 from .envelope import nice_step
 from .files import write_chart
-from .style import DPI, FEASIBLE_FILL, PALETTE, add_footer, figure_bytes
+from .style import DPI, FEASIBLE_FILL, add_footer, figure_bytes
 from .turn import DEG, TurnChart
 
 _OPTIONS = ("contours", "title", "caution")
+_SUSTAINED = "#7b4a12"        # chart furniture in black and brown: the palette belongs to the requirement ids
 
 
 def plot_turn(chart: TurnChart, axes=None, **kwargs):
@@ -69,7 +70,7 @@ def plot_turn(chart: TurnChart, axes=None, **kwargs):
                                            fontsize=7, color="#9c8446", ha="left", va="top"))
         (h["instantaneous"][lv.altitude],) = ax.plot(Mn, inst, color="#111111", lw=1.8, zorder=4,
                                                       label="instantaneous (CLmax, then limit n)")
-        (h["sustained"][lv.altitude],) = ax.plot(Mn, sust, color=PALETTE[0], lw=2.2, zorder=5,
+        (h["sustained"][lv.altitude],) = ax.plot(Mn, sust, color=_SUSTAINED, lw=2.2, zorder=5,
                                                   label="sustained (Ps = 0)")
         if lv.corner is not None:
             m, V, w = lv.corner
@@ -81,17 +82,18 @@ def plot_turn(chart: TurnChart, axes=None, **kwargs):
                                            bbox={"fc": "white", "ec": "none", "alpha": 0.8, "boxstyle": "round,pad=0.15"}))
         r, m, n = lv.best_sustained
         if np.isfinite(r):
-            (h["best"][lv.altitude],) = ax.plot([m], [r * DEG], "o", ms=7, mfc=PALETTE[0], mec="white", zorder=6,
+            (h["best"][lv.altitude],) = ax.plot([m], [r * DEG], "o", ms=7, mfc=_SUSTAINED, mec="white", zorder=6,
                                                  label="best sustained rate")
             x0, x1 = ax.get_xlim()
             left = (m - x0) / (x1 - x0) > 0.4         # room on the left of the point, else below right
             h["labels"].append(ax.annotate(f"best sustained {r * DEG:.1f} deg/s\nM {m:.2f}, {n:.2f} g", (m, r * DEG),
                                            xytext=(-8, 0) if left else (6, -24), textcoords="offset points",
-                                           fontsize=7.5, color=PALETTE[0], ha="right" if left else "left",
+                                           fontsize=7.5, color=_SUSTAINED, ha="right" if left else "left",
                                            va="center" if left else "top",
                                            bbox={"fc": "white", "ec": "none", "alpha": 0.8, "boxstyle": "round,pad=0.15"}))
         for i, (rid, m, w, n, _text) in enumerate(lv.points):
-            (h["points"][rid],) = ax.plot([m], [w * DEG], "X", ms=9, mfc=PALETTE[(i + 1) % len(PALETTE)], mec="black",
+            st = chart.styles.get(rid)
+            (h["points"][rid],) = ax.plot([m], [w * DEG], "X", ms=10, mfc=st.colour if st else "#444444", mec="black",
                                           mew=0.7, zorder=7, label=f"{rid}: {n:g} g required ({_text.split('; ')[-1]})")
         alt = "sea level" if lv.altitude == 0 else f"{lv.altitude / FT:,.0f} ft ({lv.altitude / 1000:,.1f} km)"
         ax.set_title(alt, fontsize=10)

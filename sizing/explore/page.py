@@ -128,9 +128,9 @@ class Page:
         from bokeh.layouts import column, row
         from bokeh.models import Div, Slider, Spinner
 
-        from ..charts.style import curve_style
+        from ..charts.style import styles_of
 
-        colour = {rid: curve_style(i)[0] for i, rid in enumerate(self.ex.problem.req_ids)}
+        colour = {rid: st.colour for rid, st in styles_of(self.ex.spec).items()}
         kinds = {r.id: r.kind for r in self.ex.spec.requirements}
         out, group = [], None
         for c in self.ex.controls:

@@ -3,7 +3,7 @@
 :class:`DiagramView` draws a :class:`sizing.charts.diagram_data.DiagramData`
 (the same sampled curves, weight-closure grid and axis ranges as the static
 figure) with the same colour, marker and line style per requirement
-(:func:`sizing.charts.style.curve_style`): required T/W (or P/W) curves,
+(:func:`sizing.charts.style.requirement_styles`): required T/W (or P/W) curves,
 wing-loading limits, the feasible region, where the weight does not close,
 lines of constant takeoff mass and the design point. Updates replace the data
 of the existing glyphs, so the page never rebuilds the figure. SI axes.
@@ -15,11 +15,11 @@ import math
 import numpy as np
 
 from ..charts.diagram_data import nice
-from ..charts.style import DESIGN_COLOUR, FEASIBLE_FILL, MASS_COLOUR, NO_CLOSURE_FILL, curve_style
+from ..charts.style import DESIGN_COLOUR, FEASIBLE_FILL, MASS_COLOUR, NO_CLOSURE_FILL
 
 # matplotlib marker and dash codes of charts.style -> Bokeh's names
 _MARKERS = {"o": "circle", "s": "square", "^": "triangle", "D": "diamond", "v": "inverted_triangle",
-            "P": "plus", "X": "x"}
+            "P": "plus", "X": "x", "h": "hex", "<": "square_pin", ">": "triangle_pin"}
 STALE_COLOUR = "#8a8a8a"
 
 
@@ -68,7 +68,8 @@ class DiagramView:
         self.curves, self.marks, self.limits, items = {}, {}, {}, []
         hover = []
         for c in data.curves:
-            colour, marker, ls = curve_style(c.index)
+            st = data.styles[c.id]
+            colour, marker, ls = st.colour, st.marker, st.linestyle
             src = ColumnDataSource(dict(x=[], y=[], id=[]))
             line = fig.line(source=src, x="x", y="y", line_color=colour, line_width=1.8, line_dash=_dash(ls))
             msrc = ColumnDataSource(dict(x=[], y=[]))
@@ -139,15 +140,20 @@ class DiagramView:
             labels["dx"].append(4 if spot[2] == "left" else -4)
 
         for c in sorted(data.curves, key=lambda c: (c.id not in active, c.index)):
-            colour = curve_style(c.index)[0]
+            colour = data.styles[c.id].colour
             src, line = self.curves[c.id]
-            width = 3.2 if c.id in active else 1.8
+            # a part is drawn as a driver only where the design sits on it (diagram_data's parts; an
+            # active id whose parts are not known yet keeps its curve bold)
+            known = c.thrust_active or c.limit_active
+            on_curve = c.id in active and (c.thrust_active or not known)
+            on_limit = c.id in active and (c.limit_active or (not known and c.thrust is None))
+            width = 3.2 if on_curve else 1.8
             line.glyph.line_width = width
             if c.thrust is not None:
                 Y = np.where(np.isfinite(c.thrust) & (c.thrust < clip), c.thrust, np.nan)
                 src.data = dict(x=data.W_S, y=Y, id=[c.id] * len(Y))
                 step = max(len(Y) // 5, 1)
-                start = int((0.06 + 0.035 * (c.index % 5)) * len(Y))
+                start = int((0.06 + 0.035 * (data.styles[c.id].slot % 5)) * len(Y))
                 idx = [i for i in range(start, len(Y), step) if np.isfinite(Y[i])]
                 self.marks[c.id].data = dict(x=data.W_S[idx], y=Y[idx])
                 ok = np.where(np.isfinite(Y) & (Y > yr[0]) & (Y < yr[1]) & (data.W_S > xr[0]) & (data.W_S < xr[1]))[0]
@@ -155,7 +161,7 @@ class DiagramView:
                          for f in (0.9, 0.75, 0.6, 0.45, 0.3, 0.15)] if ok.size else []
                 spot = placer.place(cands, c.id, 12, "left")
                 if spot is not None:
-                    label(spot, c.id, colour, c.id in active)
+                    label(spot, c.id, colour, on_curve)
             else:
                 src.data = dict(x=[], y=[], id=[])
                 self.marks[c.id].data = dict(x=[], y=[])
@@ -164,12 +170,12 @@ class DiagramView:
                 text = c.id if c.thrust is None else f"{c.id} CLmax"
                 lsrc.data = dict(x=[c.boundary, c.boundary], y=[yr[0] - 10 * (yr[1] - yr[0]), clip],
                                  id=[c.id if c.thrust is None else f"{c.id} (CLmax)"] * 2)
-                lim.glyph.line_width = width if c.thrust is None else 1.4
+                lim.glyph.line_width = (3.2 if on_limit else 1.8) if c.thrust is None else (2.6 if on_limit else 1.4)
                 heights = [yr[0] + f * (yr[1] - yr[0]) for f in (0.93, 0.86, 0.79, 0.72, 0.65, 0.3, 0.2)]
                 spot = placer.place([(c.boundary, h) for h in heights], text, 12, "left") or \
                     placer.place([(c.boundary, h) for h in heights], text, 12, "right")   # left of the line
                 if spot is not None:
-                    label(spot, text, colour, c.id in active and c.thrust is None)
+                    label(spot, text, colour, on_limit)
             else:
                 lsrc.data = dict(x=[], y=[], id=[])
         self.curve_labels.data = labels

@@ -13,6 +13,7 @@ from typing import Annotated, Literal, Optional, Union
 from pydantic import Field, field_validator, model_validator
 
 from ..common.errors import FieldError
+from ..weights.classes import NAMES as CLASS_NAMES
 from . import units
 from .fields import (
     ArealMass,
@@ -400,6 +401,9 @@ class DesignSpeeds(Strict):
 
 
 class Aircraft(Strict):
+    aircraft_class: Optional[Literal[CLASS_NAMES]] = Field(
+        None, alias="class", description="class of the historical tables the design is cross-checked "
+                                         "against (sizing.weights.classes); none: no cross-check")
     category: Optional[Literal["normal", "utility", "acrobatic", "transport"]] = Field(
         None, description="load-factor category (14 CFR 23.337 / 25.337); default from the takeoff mass")
     design_speeds: Optional[DesignSpeeds] = None

@@ -42,6 +42,29 @@ class DesignSpace(Strict):
         return self
 
 
+class Reference(Strict):
+    """A reference design drawn on the constraint diagram (the user's own earlier concept, say)."""
+
+    label: Name
+    wing_loading: WingLoading
+    thrust_to_weight: Optional[Number] = None
+    power_to_weight: Optional[PowerToWeight] = None
+
+    @model_validator(mode="after")
+    def _one(self):
+        if (self.thrust_to_weight is None) == (self.power_to_weight is None):
+            raise FieldError("label", f"reference {self.label!r}: give thrust_to_weight (a jet) or "
+                                      "power_to_weight (a propeller aircraft), one of them")
+        if self.thrust_to_weight is not None and not 0.0 < self.thrust_to_weight <= 20.0:
+            raise FieldError("thrust_to_weight", f"thrust_to_weight {self.thrust_to_weight:g} is not plausible "
+                                                 "(0 to 20)")
+        if not 0.0 < float(self.wing_loading) <= 1.0e5:
+            raise FieldError("wing_loading", f"wing_loading {self.wing_loading.text} is not plausible")
+        if self.power_to_weight is not None and not 0.0 < float(self.power_to_weight) <= 2000.0:
+            raise FieldError("power_to_weight", f"power_to_weight {self.power_to_weight.text} is not plausible")
+        return self
+
+
 class RequirementFile(Strict):
     title: Name = "Untitled concept"
     aircraft: Aircraft
@@ -49,6 +72,7 @@ class RequirementFile(Strict):
     requirements: list[Requirement] = Field(min_length=1)
     design_space: Optional[DesignSpace] = None
     objective: Literal["takeoff-mass", "thrust", "wing-area", "fuel-mass"] = "takeoff-mass"
+    references: Optional[list[Reference]] = None
 
     @model_validator(mode="after")
     def _cross(self):
@@ -104,6 +128,23 @@ class RequirementFile(Strict):
         if fuel is not None and self.mission is not None:
             raise FieldError(("aircraft", "weights", "fuel", "fraction"),
                              "give weights.fuel.fraction or a mission, not both")
+        for i, ref in enumerate(self.references or ()):
+            if prop and ref.thrust_to_weight is not None:
+                raise FieldError(("references", i, "thrust_to_weight"), "a propeller aircraft's diagram is in "
+                                 "power_to_weight (W/N, hp/lb): give the reference's power_to_weight")
+            if not prop and ref.power_to_weight is not None:
+                raise FieldError(("references", i, "power_to_weight"), "a jet's diagram is in thrust_to_weight: "
+                                 "give the reference's thrust_to_weight")
+        cls = self.aircraft.aircraft_class
+        if cls is not None:
+            from ..weights.classes import CLASSES
+
+            if CLASSES[cls].propeller != prop:
+                raise FieldError(("aircraft", "class"), f"class {cls!r} holds "
+                                 f"{'propeller aircraft' if CLASSES[cls].propeller else 'jets'}, and this file "
+                                 f"describes {kind}; choose a class of "
+                                 f"{'propeller aircraft' if prop else 'jets'}: " +
+                                 ", ".join(n for n, c in CLASSES.items() if c.propeller == prop))
         ds = self.design_space
         if ds is not None:
             if prop and ds.thrust_to_weight is not None:

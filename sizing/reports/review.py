@@ -17,7 +17,7 @@ import re
 from pathlib import Path
 
 from ..common.caution import CAUTION
-from ..common.conversions import FT2, HP, LB, LBF_FT2, N_PER_LBF
+from ..common.conversions import FT, FT2, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
 from .summary import cost_line, md_cell, md_escape, relaxation_heading
 
@@ -38,7 +38,7 @@ def _n(x, digits=4):
     return f"{x:,.{digits}g}"
 
 
-def _design_rows(res):
+def _design_rows(res, facts=None):
     d = res.design
     W = d.wing_loading
     rows = [["wing loading W/S", f"{W:,.0f} N/m²", f"{W / g0:,.1f} kg/m²", f"{W / LBF_FT2:,.2f} lb/ft²"]]
@@ -52,16 +52,30 @@ def _design_rows(res):
         rows.append(["sea-level static thrust", f"{d.thrust / 1000:,.2f} kN", f"{d.thrust / N_PER_LBF:,.0f} lbf", ""])
     rows.append(["takeoff mass", f"{d.takeoff_mass:,.0f} kg", f"{d.takeoff_mass / LB:,.0f} lb", ""])
     rows.append(["wing area", f"{d.wing_area:,.2f} m²", f"{d.wing_area / FT2:,.1f} ft²", ""])
+    f = facts
+    if f is not None:
+        rows.append([f"wing span (aspect ratio {f.aspect_ratio:g})", f"{f.span:,.2f} m", f"{f.span / FT:,.1f} ft", ""])
+        if f.thrust_per_engine is not None:
+            rows.append([f"sea-level static thrust per engine ({f.engines} engine{'s' if f.engines > 1 else ''})",
+                         f"{f.thrust_per_engine / 1000:,.2f} kN", f"{f.thrust_per_engine / N_PER_LBF:,.0f} lbf", ""])
+        else:
+            rows.append([f"sea-level power per engine ({f.engines} engine{'s' if f.engines > 1 else ''})",
+                         f"{f.power_per_engine / 1000:,.1f} kW", f"{f.power_per_engine / HP:,.0f} hp", ""])
     return rows
 
 
-def _weight_rows(res):
+def _weight_rows(res, facts=None):
     d = res.design
     m = d.takeoff_mass
     items = [("crew", d.crew_mass), ("payload", d.payload_mass), ("empty", d.empty_mass),
              ("fuel", d.fuel_mass)]
-    rows = [[name, f"{v:,.0f}", f"{v / LB:,.0f}", f"{v / m:.3f}"] for name, v in items]
-    rows.append(["takeoff (closure)", f"{m:,.0f}", f"{m / LB:,.0f}", "1.000"])
+    rows = []
+    for name, v in items:
+        rows.append([name, f"{v:,.0f}", f"{v / LB:,.0f}", f"{v / m:.3f}", ""])
+        if name == "empty" and facts is not None:
+            rows += [[f"  of which {part}", f"{mp:,.0f}", f"{mp / LB:,.0f}", f"{mp / m:.3f}", how]
+                     for part, mp, how in facts.empty_breakdown]
+    rows.append(["takeoff (closure)", f"{m:,.0f}", f"{m / LB:,.0f}", "1.000", ""])
     return rows
 
 
@@ -129,22 +143,46 @@ def envelope_section(spec, res):
     return "\n".join(lines + [f"\nNote: {t}" for t in env.notes] + ["", CAUTION, ""]), render(env, "png")
 
 
-def _diagram_png(spec, res):
+def _diagram_png(spec, res, labels="short", view="auto"):
     from ..charts.diagram import constraint_diagram
     from ..charts.style import figure_bytes
 
-    h = constraint_diagram(spec, result=res)
+    h = constraint_diagram(spec, result=res, labels=labels, view=view)
     return figure_bytes(h.figure, "png", dpi=REPORT_DPI)
 
 
-def document(spec, res, *, diagram=True, envelope=True, flight=True):
-    """The report as a list of blocks (see the module comment)."""
+def report_date() -> str:
+    """Today's date (UTC, ISO 8601), or the date of ``SOURCE_DATE_EPOCH`` when set (reproducible
+    builds: a rerun on another day gives the same bytes)."""
+    import datetime
+    import os
+
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch and epoch.strip().isdigit():
+        return datetime.datetime.fromtimestamp(int(epoch), datetime.timezone.utc).date().isoformat()
+    return datetime.datetime.now(datetime.timezone.utc).date().isoformat()
+
+
+def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=None, date=None,
+             labels="short", view="auto"):
+    """The report as a list of blocks (see the module comment).
+
+    revision: the user's revision mark (``--revision``); date: the report's date (default
+    :func:`report_date`); labels, view: the constraint diagram's curve labels and axes.
+    """
     from ..common.version import __version__
+    from ..problem.crosscheck import cross_check
+    from ..problem.facts import design_facts
 
     src = Path(str(spec.path)).name
+    date = date or report_date()
+    rev = f" · revision {revision}" if revision else ""
     blocks = [("h", 1, spec.title or res.title),
-              ("p", f"Sizing review of {src} · sizing {__version__} · input sha256 {spec.sha256[:12] or 'n/a'}"),
+              ("p", f"Sizing review of {src}{rev} · {date} · sizing {__version__} · input sha256 "
+                    f"{spec.sha256[:12] or 'n/a'}"),
               ("caution", CAUTION)]
+    facts = design_facts(spec, res)
+    check = cross_check(res, spec)
     st = res.stats or {}
     status = "optimal: every requirement met, weight closed" if res.feasible else "infeasible: no feasible design"
     # no solve time here: a rerun of the same file gives the same report, byte for byte
@@ -159,10 +197,26 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True):
 
     if res.feasible:
         blocks += [("h", 2, "Design point"),
-                   ("table", ["quantity", "value", "also", "also"], _design_rows(res))]
-        rows = _weight_rows(res)
+                   ("table", ["quantity", "value", "also", "also"], _design_rows(res, facts))]
+        if facts is not None and facts.cruise:
+            blocks.append(("table", ["cruise condition", "altitude", "speed", "W/W_TO", "CL", "L/D"],
+                           [[c.name, f"{c.altitude / FT:,.0f} ft", f"M {c.mach:.3f} ({c.speed / KN:,.0f} kn TAS)",
+                             f"{c.weight_fraction:.3f}", f"{c.CL:.3f}", f"{c.lift_to_drag:.2f}"]
+                            for c in facts.cruise]))
+        if check is not None:
+            blocks += [("h", 2, "Class cross-check"),
+                       ("p", f"The design beside the typical values of its declared class, {check.title} "
+                             f"({check.source}). " + (check.note[0].upper() + check.note[1:] + ". " if check.note
+                                                      else "") +
+                             ("Every value lies within the class range." if not check.outliers else
+                              f"{len(check.outliers)} of {len(check.rows)} values lie OUTSIDE the class range: "
+                              "check the inputs, or say why this design differs from its class.")),
+                       ("table", ["quantity", "design", "typical", "class range", "verdict"],
+                        [[r.quantity, f"{_n(r.design)} {r.unit}", _n(r.typical), f"{_n(r.lo)} to {_n(r.hi)}",
+                          r.verdict] for r in check.rows])]
+        rows = _weight_rows(res, facts)
         blocks += [("h", 2, "Weight statement"),
-                   ("table", ["item", "mass [kg]", "mass [lb]", "fraction of takeoff"], rows)]
+                   ("table", ["item", "mass [kg]", "mass [lb]", "fraction of takeoff", "how"], rows)]
         if res.fuel_breakdown:
             seg_rows = [[n, f"{f:.4f}", f"{mf:,.0f}"] for n, f, mf in res.fuel_breakdown]
             extra = res.design.fuel_mass - sum(mf for _, _, mf in res.fuel_breakdown)
@@ -210,7 +264,7 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True):
                    ("p", "Every requirement over wing loading, from the same constraint functions the "
                          "optimizer uses; hatching on the infeasible side, the feasible region shaded, "
                          "dashed grey lines of constant closed takeoff mass."),
-                   ("img", f"Constraint diagram of {spec.title}", _diagram_png(spec, res))]
+                   ("img", f"Constraint diagram of {spec.title}", _diagram_png(spec, res, labels, view))]
     if envelope:
         sec = envelope_section(spec, res)
         if sec is not None:
@@ -232,6 +286,8 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True):
                ("h", 2, "Provenance"),
                ("table", ["item", "value"], [["input file", str(spec.path)],
                                              ["input sha256", spec.sha256 or "n/a"],
+                                             ["revision", revision or "not given (--revision)"],
+                                             ["date", date],
                                              ["tool", f"sizing {__version__}"]]),
                ("caution", CAUTION)]
     return blocks
@@ -348,7 +404,9 @@ def to_html(blocks) -> str:
     return "\n".join(parts)
 
 
-def to_markdown(blocks) -> str:
+def to_markdown(blocks, images=None) -> str:
+    """Markdown text; ``images(alt, png_bytes) -> relative path`` writes each figure as a file
+    (None: data URIs, a self-contained text)."""
     out = []
     for b in blocks:
         kind = b[0]
@@ -362,8 +420,11 @@ def to_markdown(blocks) -> str:
             out += ["| " + " | ".join(md_cell(c) for c in r) + " |" for r in b[2]]
             out.append("")
         elif kind == "img":
-            data = base64.b64encode(b[2]).decode("ascii")
-            out += [f"![{md_escape(b[1])}](data:image/png;base64,{data})", ""]
+            if images is not None:          # a file beside the report
+                out += [f"![{md_escape(b[1])}]({images(b[1], b[2])})", ""]
+            else:
+                data = base64.b64encode(b[2]).decode("ascii")
+                out += [f"![{md_escape(b[1])}](data:image/png;base64,{data})", ""]
         elif kind == "caution":
             out += [f"> **{md_escape(b[1])}**", ""]
         elif kind == "md":
@@ -373,12 +434,12 @@ def to_markdown(blocks) -> str:
     return "\n".join(out)
 
 
-def render_report(spec, res, fmt="html", **kwargs) -> str:
-    """The report text in ``fmt`` ("html" or "md")."""
+def render_report(spec, res, fmt="html", images=None, **kwargs) -> str:
+    """The report text in ``fmt`` ("html" or "md"); ``images``: see :func:`to_markdown`."""
     if fmt not in ("html", "md"):
         raise ValueError(f"report format must be 'html' or 'md', got {fmt!r}")
     blocks = document(spec, res, **kwargs)
-    return to_html(blocks) if fmt == "html" else to_markdown(blocks)
+    return to_html(blocks) if fmt == "html" else to_markdown(blocks, images)
 
 
 REPORT_SUFFIXES = {".html": "html", ".htm": "html", ".md": "md", ".markdown": "md"}
@@ -401,9 +462,37 @@ def report_format(output, fmt=None) -> str:
     return by_suffix
 
 
-def write_report(spec, res, output, fmt="html") -> str:
-    """Write the self-contained review report atomically; returns the path."""
+def _slug(text):
+    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")[:40] or "figure"
+
+
+def write_report(spec, res, output, fmt="html", **kwargs) -> str:
+    """Write the review report atomically; returns the path.
+
+    HTML is self-contained (figures as data URIs). Markdown writes its figures as PNG files
+    in the folder ``<name>-figures`` beside it and links them by relative path (each file
+    written atomically; the folder's old figures of this report are replaced).
+    """
     from ..common.fileio import atomic_write
 
-    atomic_write(Path(output), render_report(spec, res, fmt), "w")
-    return str(output)
+    out = Path(output)
+    images = None
+    if fmt == "md":
+        folder = out.with_name(out.stem + "-figures")
+        folder.mkdir(exist_ok=True)
+        names = []
+
+        def images(alt, png):
+            name = f"{len(names) + 1:02d}-{_slug(alt)}.png"
+            names.append(name)
+            atomic_write(folder / name, png, "wb")
+            return f"{folder.name}/{name}"
+
+        text = render_report(spec, res, fmt, images=images, **kwargs)
+        for old in folder.glob("*.png"):          # figures of an earlier report with more of them
+            if old.name not in names:
+                old.unlink()
+    else:
+        text = render_report(spec, res, fmt, **kwargs)
+    atomic_write(out, text, "w")
+    return str(out)

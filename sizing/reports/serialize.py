@@ -35,6 +35,10 @@ def as_dict(result) -> dict:
         out["drivers"] = []
         out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
                                 "sensitivity": None} for r in reqs]
+    from ..problem.crosscheck import cross_check
+
+    check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess
+    out["class_check"] = check.as_dict() if check is not None else None
     if result.infeasibility is not None:
         inf = result.infeasibility
         rel = inf.relaxations

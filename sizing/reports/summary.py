@@ -100,6 +100,11 @@ def summary(result, path: str = "") -> str:
     lines.append(f"  crew + payload     {d.crew_mass + d.payload_mass:,.0f} kg")
     if result.on_edge:
         lines.append(f"  NOTE: the optimum lies on the edge of the search region ({', '.join(result.on_edge)})")
+    from ..problem.crosscheck import cross_check
+
+    check = cross_check(result)          # only where the file declares aircraft.class
+    if check is not None:
+        lines += [""] + check.lines()
     if result.fuel_breakdown:
         lines += ["", "Mission fuel by segment"]
         for name, f, mf in result.fuel_breakdown:

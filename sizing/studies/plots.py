@@ -54,7 +54,7 @@ class Progress:
 
 
 # every file a study writes; an output folder holding only these may be replaced
-OUTPUT_NAMES = ("results.csv", "study.json", "mass.png", "carpet.png", "drivers-map.png",
+OUTPUT_NAMES = ("results.csv", "results.xlsx", "study.json", "mass.png", "carpet.png", "drivers-map.png",
                 "mass-distribution.png", "costs.png")
 
 
@@ -66,8 +66,8 @@ def output_folder(output_dir):
     return FolderSwap(output_dir, OUTPUT_NAMES)
 
 
-def write_outputs(result, output_dir, folder=None) -> list:
-    """results.csv, study.json and the plots; returns the written paths.
+def write_outputs(result, output_dir, folder=None, xlsx=False) -> list:
+    """results.csv, study.json, the plots (and with ``xlsx`` results.xlsx); returns the written paths.
 
     The set is written into a fresh staging folder and swapped in whole
     (:class:`sizing.common.fileio.FolderSwap`): an earlier study's files that
@@ -97,9 +97,50 @@ def write_outputs(result, output_dir, folder=None) -> list:
             "caution": CAUTION,
         }
         written.append(atomic_write(stage / "study.json", json.dumps(meta, indent=2, allow_nan=False) + "\n"))
+        if xlsx:
+            written.append(atomic_write(stage / "results.xlsx", study_workbook(result), "wb"))
         written += write_plots(result, stage)
         fs.commit()
     return [fs.path / Path(w).name for w in written]
+
+
+def column_header(col, study) -> str:
+    """A study table column's header with its unit: a varied parameter by its name in the file format
+    (``turn-4g load factor [g]``), an output column by its unit suffix (``takeoff mass [kg]``)."""
+    for v in study.varied:
+        if v.path == col:
+            return axis_name(v.path, v.unit, study.base)
+    for suffix, unit in _SUFFIX_UNITS:
+        if col.endswith(suffix):
+            return f"{col[: -len(suffix)].replace('_', ' ')} [{unit}]"
+    return f"{col.replace('_', ' ')} [{_COLUMN_UNITS.get(col, 'text')}]"
+
+
+_SUFFIX_UNITS = (("_W_per_N", "W/N"), ("_kg", "kg"), ("_Pa", "N/m²"), ("_m2", "m²"), ("_kN", "kN"), ("_N", "N"),
+                 ("_kW", "kW"), ("_W", "W"), ("_ms", "ms"), ("_s", "s"), ("_m", "m"), ("_pct", "%"))
+_COLUMN_UNITS = {"thrust_to_weight": "-", "iterations": "count", "point": "index", "feasible": "yes/no",
+                 "margin": "-"}
+
+
+def study_workbook(result) -> bytes:
+    """results.xlsx: the study table (units in every header) and the study's description, the caution
+    on every sheet."""
+    import pandas as pd
+
+    from ..common.version import __version__
+    from ..reports.workbook import frames_workbook
+
+    st, t = result.study, result.table
+    table = t.rename(columns={c: column_header(c, st) for c in t.columns})
+    about = [("title [text]", st.title), ("study file [text]", st.file), ("base file [text]", st.base_file),
+             ("base sha256 [text]", st.base.sha256), ("mode [text]", st.mode), ("points [count]", result.points),
+             ("seed [-]", st.seed if st.seed is not None else "")]
+    about += [(f"varied: {axis_name(v.path, v.unit, st.base)}", f"{v.path} "
+               f"{_dist_text(st.distributions.get(v.path, {})) if st.distributions else ''}".strip())
+              for v in st.varied]
+    sheets = {"results": table, "study": pd.DataFrame(about, columns=["item [unit]", "value [as written]"])}
+    return frames_workbook(sheets, f"{st.title} · base {st.base_file} · sha256 {st.base.sha256} · "
+                                   f"sizing {__version__}")
 
 
 def _finite(x):
@@ -162,8 +203,40 @@ def _save(fig, path):
     return atomic_write(path, buf.getvalue(), "wb")
 
 
-def _label(path, unit):
-    return f"{path} [{unit}]" if unit else path
+_CONTEXT = {"aerodynamics": "", "propulsion": "", "weights": "", "aircraft": "", "empty": "empty-mass",
+            "cl_max": "CLmax", "fuel": "fuel", "mission": "mission", "design_speeds": "design speed",
+            "speed_limit": "speed limit"}
+_WORDS = {"oswald_efficiency": "Oswald efficiency", "cd0": "CD0", "other": "other (fraction of takeoff mass)",
+          "aspect_ratio": "aspect ratio", "tsfc": "TSFC", "psfc": "PSFC"}
+
+
+def axis_name(path, unit="", spec=None) -> str:
+    """A study parameter named as the file format names it, with its unit: ``requirements.turn-4g.load_factor``
+    -> ``turn-4g load factor [g]``; ``aircraft.aerodynamics.oswald_efficiency`` -> ``Oswald efficiency [-]``.
+
+    >>> axis_name("requirements.field.ground_roll", "m"), axis_name("aircraft.weights.empty.other")
+    ('field ground roll [m]', 'empty-mass other (fraction of takeoff mass) [-]')
+    """
+    parts = path.split(".")
+    words = lambda k: _WORDS.get(k, k.replace("_", " "))      # noqa: E731
+    if parts[0] == "requirements" and len(parts) >= 3:
+        if not unit and spec is not None:
+            from ..problem.capability import user_unit
+
+            try:
+                unit = user_unit(spec, parts[1], parts[2])[0]
+            except (KeyError, AttributeError, StopIteration):
+                unit = ""
+            unit = "" if unit in ("unit", "Mach") else unit
+        name = f"{parts[1]} {' '.join(words(k) for k in parts[2:])}"
+    else:
+        ctx = [_CONTEXT.get(k, k.replace("_", " ")) for k in parts[:-1]]
+        name = " ".join([c for c in ctx[-1:] if c] + [words(parts[-1])])
+    return f"{name} [{unit or '-'}]"
+
+
+def _label(path, unit, spec=None):
+    return axis_name(path, unit, spec)
 
 
 def _driver_name(d):
@@ -400,7 +473,7 @@ def write_plots(result, out_dir) -> list:
         fig = _figure()
         ax = fig.add_subplot()
         mass_curve(t[v.path].to_numpy(), t["takeoff_mass_kg"].to_numpy(), list(t["drivers"]),
-                   t["status"].to_numpy(), xlabel=_label(v.path, v.unit), ax=ax)
+                   t["status"].to_numpy(), xlabel=_label(v.path, v.unit, st.base), ax=ax)
         ax.set_title(title, fontsize=10)
         _footer(fig, base)
         written.append(_save(fig, out / "mass.png"))
@@ -420,7 +493,7 @@ def write_plots(result, out_dir) -> list:
             drv = np.asarray(t["drivers"].to_numpy()[:k], dtype=object).reshape(shape)
             a = t[va.path].to_numpy()[:k].reshape(shape)[:, 0]
             b = t[vb.path].to_numpy()[:k].reshape(shape)[0, :]
-            la, lb = _label(va.path, va.unit), _label(vb.path, vb.unit)
+            la, lb = _label(va.path, va.unit, st.base), _label(vb.path, vb.unit, st.base)
             fig = _figure()
             ax = fig.add_subplot()
             carpet(a, b, mass, la, lb, drivers=drv, ax=ax)

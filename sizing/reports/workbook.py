@@ -1,0 +1,215 @@
+"""Spreadsheet export (``sizing export FILE -o design.xlsx``): the design in a workbook.
+
+Sheets: design (the design point and what a reviewer asks beside it), weights (the weight
+statement, the empty mass by component, fuel by mission segment), requirements (margins,
+costs and sensitivities), class check (where the file declares ``aircraft.class``),
+diagram curves (every requirement sampled over wing loading, as the diagram draws them)
+and inputs (the file as written). Every sheet opens with the caution and the provenance
+(file, sha256, tool); every column header carries its unit. Written through pandas with
+openpyxl (imported only here), to bytes, then atomically.
+"""
+from __future__ import annotations
+
+import io
+import math
+
+from ..common.caution import CAUTION
+from ..common.conversions import FT, HP, KN, LB, LBF_FT2, N_PER_LBF
+from ..physics.atmosphere import g0
+
+HEAD_ROWS = 3          # caution, provenance, a blank row; the table's header is on row 4
+
+
+def frames_workbook(sheets, provenance: str) -> bytes:
+    """An .xlsx of {sheet name: DataFrame}; each sheet: the caution (row 1), the provenance (row 2),
+    the table from row 4 with its header (units in the names), columns sized to fit."""
+    import pandas as pd
+    from openpyxl.styles import Alignment, Font
+
+    buf = io.BytesIO()
+    with pd.ExcelWriter(buf, engine="openpyxl") as xw:
+        for name, frame in sheets.items():
+            frame.to_excel(xw, sheet_name=name[:31], index=False, startrow=HEAD_ROWS)
+            ws = xw.sheets[name[:31]]
+            ws["A1"] = CAUTION
+            ws["A1"].font = Font(bold=True, color="BB2233")
+            ws["A1"].alignment = Alignment(wrap_text=False)
+            ws["A2"] = provenance
+            ws["A2"].font = Font(italic=True, color="444444")
+            for i, col in enumerate(frame.columns, start=1):
+                width = max([len(str(col))] + [len(str(v)) for v in frame.iloc[:200, i - 1].tolist()])
+                ws.column_dimensions[ws.cell(row=HEAD_ROWS + 1, column=i).column_letter].width = min(
+                    max(10, width + 2), 60)
+            ws.freeze_panes = ws.cell(row=HEAD_ROWS + 2, column=1)
+    data = buf.getvalue()
+    return _fixed_times(data)
+
+
+def _fixed_times(data: bytes) -> bytes:
+    """The workbook with its creation and modification times removed from docProps/core.xml
+    (a rerun gives the same cells; the times would only differ)."""
+    import re
+    import zipfile
+
+    src = zipfile.ZipFile(io.BytesIO(data))
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
+        for item in src.infolist():
+            body = src.read(item.filename)
+            if item.filename == "docProps/core.xml":
+                body = re.sub(rb"<dcterms:(created|modified)[^>]*>[^<]*</dcterms:\1>", b"", body)
+            info = zipfile.ZipInfo(item.filename, date_time=(1980, 1, 1, 0, 0, 0))
+            info.compress_type = zipfile.ZIP_DEFLATED
+            dst.writestr(info, body)
+    return out.getvalue()
+
+
+def _provenance(spec):
+    from pathlib import Path
+
+    from ..common.version import __version__
+
+    return (f"{spec.title} · input {Path(str(spec.path)).name} · sha256 {spec.sha256 or 'n/a'} · "
+            f"sizing {__version__}")
+
+
+def _design_frame(spec, res, facts):
+    import pandas as pd
+
+    d = res.design
+    rows = [("wing loading W/S", d.wing_loading, "N/m²"), ("wing loading W/S", d.wing_loading / g0, "kg/m²"),
+            ("wing loading W/S", d.wing_loading / LBF_FT2, "lb/ft²")]
+    if res.propeller:
+        rows += [("power-to-weight P/W (sea level)", d.power_to_weight, "W/N"),
+                 ("power-to-weight P/W (sea level)", d.power_to_weight * N_PER_LBF / HP, "hp/lb"),
+                 ("sea-level power", d.power / 1000.0, "kW"), ("sea-level power", d.power / HP, "hp")]
+    else:
+        rows += [("thrust-to-weight T/W (sea-level static)", d.thrust_to_weight, "-"),
+                 ("sea-level static thrust", d.thrust / 1000.0, "kN"),
+                 ("sea-level static thrust", d.thrust / N_PER_LBF, "lbf")]
+    rows += [("takeoff mass", d.takeoff_mass, "kg"), ("takeoff mass", d.takeoff_mass / LB, "lb"),
+             ("wing area", d.wing_area, "m²")]
+    if facts is not None:
+        rows += [("wing span", facts.span, "m"), ("aspect ratio", facts.aspect_ratio, "-"),
+                 ("engines", facts.engines, "-")]
+        if facts.thrust_per_engine is not None:
+            rows.append(("sea-level static thrust per engine", facts.thrust_per_engine / 1000.0, "kN"))
+        else:
+            rows.append(("sea-level power per engine", facts.power_per_engine / 1000.0, "kW"))
+        for c in facts.cruise:
+            rows += [(f"{c.name}: altitude", c.altitude / FT, "ft"), (f"{c.name}: Mach", c.mach, "-"),
+                     (f"{c.name}: true airspeed", c.speed / KN, "kn"),
+                     (f"{c.name}: weight fraction W/W_TO", c.weight_fraction, "-"),
+                     (f"{c.name}: lift coefficient CL", c.CL, "-"), (f"{c.name}: L/D", c.lift_to_drag, "-")]
+    rows += [("drivers", ", ".join(res.drivers) or "none", "text"), ("objective", res.objective, "text")]
+    return pd.DataFrame(rows, columns=["quantity [text]", "value [unit in the next column]", "unit [text]"])
+
+
+def _weights_frame(res, facts):
+    import pandas as pd
+
+    d = res.design
+    m = d.takeoff_mass
+    rows = [("crew", d.crew_mass, ""), ("payload", d.payload_mass, ""), ("empty", d.empty_mass, "")]
+    if facts is not None:
+        rows += [(f"empty: {part}", mp, how) for part, mp, how in facts.empty_breakdown]
+    rows += [("fuel", d.fuel_mass, "")]
+    rows += [(f"fuel: {name} (W_end/W_start {f:.4f})", mf, "mission segment") for name, f, mf in res.fuel_breakdown]
+    rows += [("takeoff (closure)", m, "")]
+    return pd.DataFrame([(a, v, v / LB, v / m, how) for a, v, how in rows],
+                        columns=["item [text]", "mass [kg]", "mass [lb]", "fraction of takeoff mass [-]",
+                                 "how it is computed [text]"])
+
+
+def _requirements_frame(res):
+    import pandas as pd
+
+    from .summary import cost_line
+
+    rows = []
+    for r in res.requirements:
+        rows.append({"id [text]": r.id, "kind [text]": r.kind, "value as written [text]": r.value_text,
+                     "active [yes/no]": "yes" if r.active else "no",
+                     "margin [%]": 0.0 if r.active else (100.0 * r.margin if math.isfinite(r.margin) else None),
+                     "in its own terms [text]": r.detail,
+                     "cost of one step [text]": cost_line(r) if r.active else "not active",
+                     "sensitivity d m_TO / d value [see unit]": r.sensitivity,
+                     "sensitivity unit [text]": r.sensitivity_unit,
+                     "weight fraction W/W_TO [-]": r.beta, "weight fraction from [text]": r.beta_source})
+    return pd.DataFrame(rows)
+
+
+def _curves_frame(spec, res):
+    import pandas as pd
+
+    from ..charts.diagram_data import diagram_data
+
+    data = diagram_data(spec, res, view="full", samples=121, grid=(40, 30))
+    unit = "W/N" if data.propeller else "-"
+    cols = {"wing loading W/S [N/m²]": data.W_S}
+    for c in data.curves:
+        if c.thrust is not None:
+            cols[f"{c.id}: required {'P/W' if data.propeller else 'T/W'} [{unit}]"] = \
+                [v if math.isfinite(v) else None for v in c.thrust]
+        if c.limit is not None:
+            cols[f"{c.id}: W/S limit [N/m²]"] = [v if math.isfinite(v) else None for v in c.limit]
+    return pd.DataFrame(cols)
+
+
+def _flatten(d, prefix=""):
+    out = []
+    if isinstance(d, dict):
+        for k, v in d.items():
+            out += _flatten(v, f"{prefix}.{k}" if prefix else str(k))
+    elif isinstance(d, list):
+        for i, v in enumerate(d):
+            key = f"{prefix}[{i + 1}]"
+            if isinstance(v, dict) and "id" in v:
+                key = f"{prefix}[{v['id']}]"
+            out += _flatten(v, key)
+    else:
+        out.append((prefix, d if isinstance(d, (int, float)) and not isinstance(d, bool) else str(d)))
+    return out
+
+
+def _inputs_frame(spec):
+    import pandas as pd
+
+    return pd.DataFrame(_flatten(spec.data), columns=["key [text]", "value as written [unit as written]"])
+
+
+def design_workbook(spec, res) -> bytes:
+    """The workbook of a solved requirement file (an infeasible one: requirements and inputs only)."""
+    import pandas as pd
+
+    from ..problem.crosscheck import cross_check
+    from ..problem.facts import design_facts
+
+    sheets = {}
+    if res.feasible:
+        facts = design_facts(spec, res)
+        sheets["design"] = _design_frame(spec, res, facts)
+        sheets["weights"] = _weights_frame(res, facts)
+        sheets["requirements"] = _requirements_frame(res)
+        check = cross_check(res, spec)
+        if check is not None:
+            sheets["class check"] = pd.DataFrame(
+                [(r.quantity, r.unit, r.design, r.typical, r.lo, r.hi, r.verdict) for r in check.rows],
+                columns=["quantity [text]", "unit [text]", "design [unit]", "typical [unit]", "range low [unit]",
+                         "range high [unit]", f"verdict against {check.title} ({check.source}) [text]"])
+        sheets["diagram curves"] = _curves_frame(spec, res)
+    else:
+        inf = res.infeasibility
+        rows = [(rid, (inf.relaxations.get(rid) or {}).get("text", "")) for rid in (inf.conflicts if inf else ())]
+        sheets["no feasible design"] = pd.DataFrame(rows or [("none found", "")],
+                                                    columns=["conflicting requirement [text]",
+                                                             "smallest relaxation [as written]"])
+    sheets["inputs"] = _inputs_frame(spec)
+    return frames_workbook(sheets, _provenance(spec))
+
+
+def write_workbook(spec, res, output) -> str:
+    from ..common.fileio import atomic_write
+
+    atomic_write(output, design_workbook(spec, res), "wb")
+    return str(output)
