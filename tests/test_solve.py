@@ -31,6 +31,13 @@ def check_against_grid(spec):
     prob = build(spec)
     tree = M.spec_tree(spec)
     grid = BF.best(tree, prob.WS_bounds, prob.Y_bounds, prob.propeller)
+    if grid is None and res.status == "optimal":
+        # the feasible set may be narrower than the coarse grid's step (a weight closure near
+        # runaway beside a steep curve): the same grid, zoomed to +/- 3 % about the solver's
+        # wing loading, must then find it
+        W = res.design.wing_loading
+        grid = BF.best(tree, (max(W / 1.03, prob.WS_bounds[0]), min(W * 1.03, prob.WS_bounds[1])),
+                       prob.Y_bounds, prob.propeller)
     if grid is None:
         assert res.status == "infeasible"
         return res, None
