@@ -40,6 +40,7 @@ UNITS = {
     'horsepower': (745.6998715822701, '[mass] * [length] ** 2 / [time] ** 3'),
     'hour': (3600, '[time]'),
     'hp': (745.6998715822701, '[mass] * [length] ** 2 / [time] ** 3'),
+    'hp/lb': (1643.9868059999997, '[length] ** 2 / [time] ** 3'),
     'hp/lbf': (167.64, '[length] / [time]'),
     'in': (0.0254, '[length]'),
     'kN': (1000.0, '[mass] * [length] / [time] ** 2'),
