@@ -55,6 +55,11 @@ def _parser() -> argparse.ArgumentParser:
     e.add_argument("-o", "--output", default=None, help="figure, PNG/SVG/PDF by suffix (default envelope.png)")
     e.add_argument("--data", help="also write the envelope table as CSV")
     e.add_argument("--weight-fraction", type=float, default=None)
+    e.add_argument("--speed", choices=("mach", "cas", "tas"), default=None,
+                   help="horizontal axis: Mach number, or calibrated or true airspeed in knots with lines of "
+                        "constant Mach (default: cas for propeller aircraft, mach otherwise)")
+    e.add_argument("--units", choices=("si", "us"), default="si",
+                   help="Ps contours in m/s (si) or ft/min (us); altitudes are in ft either way")
     e.add_argument("--json", action="store_true", help="print ceilings, top speeds, coffin corner and zoom as JSON "
                                                        "(files only when -o/--data are given)")
 
@@ -266,7 +271,9 @@ def cmd_envelope(args) -> int:
     env = compute_envelope(spec, res, args.weight_fraction)
     text = (env.table_text() + "\n\nRequirements at their own conditions\n" +
             "\n".join(f"  {p.id:<18} {status_text(p):<16} {p.detail}   [{p.conditions}]" for p in env.points) + "\n")
-    return _chart_output(args, env, write_envelope, text)
+    from functools import partial
+
+    return _chart_output(args, env, partial(write_envelope, speed=args.speed, units=args.units), text)
 
 
 def _length(text, field):

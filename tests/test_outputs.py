@@ -184,7 +184,8 @@ def test_a_new_study_replaces_the_old_set_and_an_interrupted_one_leaves_it(tmp_p
     rc, out_text, _err = _main(["study", str(ROOT / "studies" / "trainer-uncertainty.yaml"), "-o", str(out), *limit])
     assert rc == 0, _err
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["costs.png", "mass-distribution.png", "results.csv", "study.json"]   # the sweep's plots gone
+    assert names == ["costs.png", "mass-distribution.png", "mass-influence.png", "results.csv",
+                     "study.json"]                                   # the sweep's plots gone
     assert all(f"wrote {out / n}" in out_text for n in names)
     assert set(names) <= set(plots.OUTPUT_NAMES)
     assert _mode(out) == 0o750                                       # the folder keeps its mode

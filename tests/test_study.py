@@ -51,7 +51,8 @@ def test_sweep_points_equal_single_solves():
     res = run_study(SWEEP, workers=1, costs=False)
     t = res.table
     assert list(t.columns) == ["requirements.turn-4g.load_factor", "requirements.field.ground_roll", "status",
-                               "wing_loading_Pa", "thrust_to_weight", "takeoff_mass_kg", "wing_area_m2", "drivers"]
+                               "wing_loading_Pa", "thrust_to_weight", "takeoff_mass_kg", "wing_area_m2", "drivers",
+                               "conflicting"]
     assert len(t) == 6
     spec = load(TRAINER)
     statuses = set()

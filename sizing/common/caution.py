@@ -1,8 +1,8 @@
 """The caution every report, page, figure and CLI summary carries."""
 
-CAUTION = ("CAUTION: conceptual-design estimate only. Not for certification, airworthiness or "
-           "operational decisions; detailed analysis, test, the applicable regulations and "
-           "authorities govern. Have results reviewed by qualified engineers.")
+CAUTION = ("CAUTION: conceptual-design estimate only. Not for certification, airworthiness, "
+           "structural design or operational decisions; detailed analysis, test, the applicable "
+           "regulations and authorities govern. Have results reviewed by qualified engineers.")
 
 LOADS_CAUTION = ("Structural design loads are defined by the applicable regulation and the authority; "
                  "this tool applies a published, simplified form (the prescriptive load-factor, design-speed "

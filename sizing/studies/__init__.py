@@ -2,8 +2,9 @@
 
 Lives here: ``definition`` (study files: paths, values, distributions, all
 checked before any solve), ``runner`` (one built problem per worker,
-warm-started re-solves, local processes or Dask, the result table) and
-``plots`` (carpet, driver map, distributions, costs; the output files).
+warm-started re-solves, local processes or Dask, the result table),
+``statistics`` (percentiles over all samples, rank influence), ``figures``
+(carpet, driver map, distributions, costs) and ``plots`` (summary and output files).
 May import: ``sizing.reports``, ``sizing.charts``, ``sizing.problem`` and
 everything below them.
 """

@@ -19,8 +19,6 @@ from pathlib import Path
 
 import numpy as np
 
-from ..charts.style import PALETTE
-
 NONE_LABEL = "(no requirement active)"
 
 
@@ -55,7 +53,7 @@ class Progress:
 
 # every file a study writes; an output folder holding only these may be replaced
 OUTPUT_NAMES = ("results.csv", "results.xlsx", "study.json", "mass.png", "carpet.png", "drivers-map.png",
-                "mass-distribution.png", "costs.png")
+                "mass-distribution.png", "mass-influence.png", "costs.png")
 
 
 def output_folder(output_dir):
@@ -92,6 +90,13 @@ def write_outputs(result, output_dir, folder=None, xlsx=False) -> list:
             "seed": st.seed, "distributions": st.distributions or None,
             "feasible_fraction": _finite(result.feasible_fraction),
             "takeoff_mass_percentiles_kg": {str(k): _finite(v) for k, v in result.percentiles().items()},
+            "takeoff_mass_percentiles_basis": "feasible samples only",
+            "takeoff_mass_percentiles_all_samples_kg": {str(k): v for k, v in result.percentiles_all().items()},
+            "takeoff_mass_percentiles_all_samples_basis": (
+                "every sample with a verdict, infeasible ones ranked heavier than any design; "
+                "null: not reached (no design at that probability)"),
+            "input_influence_spearman": ({p: (r if math.isfinite(r) else None) for p, r in result.influence()}
+                                         if st.mode == "sample" else None),
             "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
             "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
             "caution": CAUTION,
@@ -118,7 +123,7 @@ def column_header(col, study) -> str:
 
 _SUFFIX_UNITS = (("_W_per_N", "W/N"), ("_kg", "kg"), ("_Pa", "N/m²"), ("_m2", "m²"), ("_kN", "kN"), ("_N", "N"),
                  ("_kW", "kW"), ("_W", "W"), ("_ms", "ms"), ("_s", "s"), ("_m", "m"), ("_pct", "%"))
-_COLUMN_UNITS = {"thrust_to_weight": "-", "iterations": "count", "point": "index", "feasible": "yes/no",
+_COLUMN_UNITS = {"thrust_to_weight": "-", "conflicting": "text", "iterations": "count", "point": "index", "feasible": "yes/no",
                  "margin": "-"}
 
 
@@ -164,10 +169,22 @@ def summary(result) -> str:
         m = t.loc[ok, "takeoff_mass_kg"]
         lines.append(f"takeoff mass {m.min():,.0f} to {m.max():,.0f} kg")
         if st.mode == "sample":
-            pc = result.percentiles()
-            lines.append("takeoff mass percentiles: " + ", ".join(f"P{k} {v:,.0f} kg" for k, v in pc.items()))
+            pc, pa = result.percentiles(), result.percentiles_all()
+            lines.append("takeoff mass percentiles over feasible samples only: "
+                         + ", ".join(f"P{k} {v:,.0f} kg" for k, v in pc.items()))
+            lines.append("takeoff mass percentiles over all samples (infeasible counted heavier than any design): "
+                         + ", ".join(f"P{k} {v:,.0f} kg" if v is not None else f"P{k} not reached"
+                                     for k, v in pa.items()))
+            top = [(p, r) for p, r in result.influence() if math.isfinite(r)][:3]
+            if top:
+                lines.append("inputs that move takeoff mass most (Spearman rank correlation): "
+                             + "; ".join(f"{p} {r:+.2f}" for p, r in top))
         counts = t.loc[ok, "drivers"].replace("", "(none)").value_counts()
         lines.append("drivers: " + "; ".join(f"{k.replace(';', ' + ')} at {v:,}" for k, v in counts.head(6).items()))
+    if n_inf:
+        conf = t.loc[t["status"] == "infeasible", "conflicting"].replace("", "(not named)").value_counts()
+        lines.append("infeasible points, requirements in conflict where the solve ended: "
+                     + "; ".join(f"{k.replace(';', ' + ')} at {v:,}" for k, v in conf.head(4).items()))
     how = {"serial": "in this process", "processes": f"on {result.workers} local processes",
            "dask": "on a Dask cluster"}[result.executor]
     lines.append(f"solved {how} in {result.elapsed_s:.2f} s "
@@ -175,7 +192,7 @@ def summary(result) -> str:
     return "\n".join(lines)
 
 
-def _figure(figsize=(8.0, 5.6)):
+def _figure(figsize=(9.0, 6.0)):
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
@@ -188,11 +205,11 @@ def _footer(fig, extra=""):
     """The caution (and a source line) under the axes, with room kept for it."""
     from ..common.caution import CAUTION
 
-    width = int(fig.get_figwidth() * 19)
+    width = int(fig.get_figwidth() * 15.5)
     lines = textwrap.wrap(CAUTION, width) + (textwrap.wrap(extra, width) if extra else [])
-    frac = min(0.4, (0.1 + 0.105 * len(lines)) / fig.get_figheight())
+    frac = min(0.4, (0.1 + 0.13 * len(lines)) / fig.get_figheight())
     fig.get_layout_engine().set(rect=(0, frac, 1, 1 - frac))
-    fig.text(0.01, 0.005, "\n".join(lines), fontsize=6, color="0.35", va="bottom", ha="left")
+    fig.text(0.01, 0.005, "\n".join(lines), fontsize=7.5, color="0.3", va="bottom", ha="left")
 
 
 def _save(fig, path):
@@ -239,294 +256,81 @@ def _label(path, unit, spec=None):
     return axis_name(path, unit, spec)
 
 
-def _driver_name(d):
-    return d.replace(";", " + ") if d else NONE_LABEL
-
-
-def _colours(names):
-    """The constraint diagram's own palette (sizing.plots.PALETTE), lightened on repeat."""
-    from matplotlib.colors import to_rgb
-
-    from ..charts.style import PALETTE
-
-    out = {}
-    for i, n in enumerate(names):
-        rgb = np.array(to_rgb(PALETTE[i % len(PALETTE)]))
-        k = i // len(PALETTE)
-        out[n] = tuple(rgb + (1 - rgb) * min(0.3 * k, 0.7))
-    return out
-
-
-def _driver_sets(drivers, ok):
-    names = []
-    for d, good in zip(drivers, ok):
-        if good and d not in names:
-            names.append(d)
-    return names
-
-
-def mass_curve(x, mass, drivers, status, xlabel="", ax=None):
-    """Takeoff mass against one parameter, coloured and labelled by the driving requirements.
-
-    x, mass: arrays; drivers: ';'-joined ids per point; status: per point.
-    Infeasible points are marked along the bottom edge.
-    """
-    ax = ax if ax is not None else _figure().add_subplot()
-    x, mass = np.asarray(x, float), np.asarray(mass, float)
-    ok = np.asarray(status) == "optimal"
-    order = np.argsort(x, kind="stable")
-    x, mass, ok = x[order], mass[order], ok[order]
-    drivers = [drivers[i] for i in order]
-    names = _driver_sets(drivers, ok)
-    col = _colours(names)
-    handles = [ax.plot(x[ok], mass[ok], color="0.75", lw=1, zorder=1)[0]]
-    # runs of equal driver sets: a coloured stretch with its label at the middle
-    runs, start = [], None
-    for i in range(len(x) + 1):
-        key = drivers[i] if i < len(x) and ok[i] else None
-        if start is not None and (key != drivers[start] or i == len(x) or not ok[i]):
-            runs.append((start, i))
-            start = None
-        if start is None and key is not None:
-            start = i
-    labelled = set()
-    for a, b in runs:
-        d = drivers[a]
-        lab = _driver_name(d) if d not in labelled else None
-        labelled.add(d)
-        handles.append(ax.plot(x[a:b], mass[a:b], "o-", color=col[d], ms=4, lw=2.2, label=lab, zorder=2)[0])
-        mid = (a + b - 1) // 2
-        handles.append(ax.annotate(_driver_name(d), (x[mid], mass[mid]), xytext=(0, 9), textcoords="offset points",
-                                   ha="center", fontsize=7, color=col[d]))
-    if (~ok).any():
-        lo = np.nanmin(mass[ok]) if ok.any() else 0.0
-        handles.append(ax.plot(x[~ok], np.full((~ok).sum(), lo), "x", color="0.15", ms=7,
-                               label="no feasible design", zorder=3)[0])
-    ax.set_xlabel(xlabel)
-    ax.set_ylabel("takeoff mass [kg]")
-    ax.grid(True, alpha=0.3)
-    if names or (~ok).any():
-        ax.legend(fontsize=7, title="driving requirements", title_fontsize=7)
-    return handles
-
-
-def carpet(a, b, mass, a_label="", b_label="", drivers=None, ax=None, offset=0.5):
-    """Carpet plot: takeoff mass over two parameters as a sheared grid of lines.
-
-    a, b: the two axes' values (lengths na, nb); mass: (na, nb). Lines of
-    constant ``a`` and of constant ``b``; the horizontal position is the
-    carpet's own (index of a plus ``offset`` times index of b) and carries
-    no scale. Nodes are coloured by their driving requirements when given.
-    """
-    ax = ax if ax is not None else _figure().add_subplot()
-    mass = np.asarray(mass, float)
-    na, nb = mass.shape
-    ia, ib = np.meshgrid(np.arange(na) / max(na - 1, 1), np.arange(nb) / max(nb - 1, 1), indexing="ij")
-    X = ia + offset * ib
-    handles = []
-    for i in range(na):
-        handles.append(ax.plot(X[i], mass[i], color="0.25", lw=1.2)[0])
-        j = np.flatnonzero(np.isfinite(mass[i]))
-        if j.size:
-            handles.append(ax.annotate(f"{a[i]:g}", (X[i, j[-1]], mass[i, j[-1]]), xytext=(3, 0),
-                                       textcoords="offset points", fontsize=7, color="0.25", va="center"))
-    for k in range(nb):
-        handles.append(ax.plot(X[:, k], mass[:, k], color="0.55", lw=1.2, ls="--")[0])
-        i = np.flatnonzero(np.isfinite(mass[:, k]))
-        if i.size:
-            handles.append(ax.annotate(f"{b[k]:g}", (X[i[0], k], mass[i[0], k]), xytext=(-3, -2),
-                                       textcoords="offset points", fontsize=7, color="0.45",
-                                       ha="right", va="top"))
-    if drivers is not None:
-        d = np.asarray(drivers, dtype=object)
-        ok = np.isfinite(mass)
-        names = _driver_sets(d.ravel(), ok.ravel())
-        col = _colours(names)
-        for n in names:
-            sel = ok & (d == n)
-            handles.append(ax.scatter(X[sel], mass[sel], s=18, color=col[n], zorder=3, label=_driver_name(n)))
-        if names:
-            ax.legend(fontsize=7, title="driving requirements", title_fontsize=7, loc="best")
-    ax.plot([], [], color="0.25", label=f"constant {a_label} (labelled at the right)")
-    ax.plot([], [], color="0.55", ls="--", label=f"constant {b_label} (labelled at the left)")
-    handles.append(ax.legend(fontsize=7, loc="upper left", handles=ax.get_legend_handles_labels()[0]))
-    ax.set_xticks([])
-    ax.set_xlabel(f"carpet of {a_label}\nand {b_label} (the horizontal position has no scale)", fontsize=8)
-    ax.set_ylabel("takeoff mass [kg]")
-    ax.grid(True, axis="y", alpha=0.3)
-    return handles
-
-
-def driver_map(a, b, mass, drivers, a_label="", b_label="", ax=None):
-    """Which requirements drive, over two parameters, with lines of constant takeoff mass."""
-    from matplotlib.colors import ListedColormap
-    from matplotlib.patches import Patch
-
-    ax = ax if ax is not None else _figure().add_subplot()
-    mass = np.asarray(mass, float)
-    d = np.asarray(drivers, dtype=object)
-    ok = np.isfinite(mass)
-    names = _driver_sets(d.ravel(), ok.ravel())
-    col = _colours(names)
-    code = np.full(mass.shape, np.nan)
-    for k, n in enumerate(names):
-        code[ok & (d == n)] = k
-    handles = []
-    if names:
-        cmap = ListedColormap([col[n] for n in names])
-        handles.append(ax.pcolormesh(np.asarray(b, float), np.asarray(a, float), np.ma.masked_invalid(code),
-                                     cmap=cmap, vmin=-0.5, vmax=len(names) - 0.5, shading="nearest", alpha=0.8))
-    if (~ok).any():
-        bb, aa = np.meshgrid(b, a)
-        handles.append(ax.scatter(bb[~ok], aa[~ok], marker="x", color="0.15", s=25))
-    if ok.sum() >= 4 and min(mass.shape) >= 2:
-        cs = ax.contour(np.asarray(b, float), np.asarray(a, float), np.ma.masked_invalid(mass), colors="k",
-                        linewidths=0.8)
-        ax.clabel(cs, fontsize=7, fmt=lambda v: f"{v:,.0f} kg")
-        handles.append(cs)
-    patches = [Patch(color=col[n], label=_driver_name(n)) for n in names]
-    if (~ok).any():
-        patches.append(Patch(color="0.15", label="x: no feasible design"))
-    if patches:
-        ax.legend(handles=patches, fontsize=7, title="driving requirements", title_fontsize=7, loc="best")
-    ax.set_xlabel(b_label)
-    ax.set_ylabel(a_label)
-    return handles
-
-
-def mass_distribution(mass, n_total, feasible_fraction, percentiles, drivers=None, ax=None):
-    """Histogram of the feasible takeoff masses with percentiles and P(feasible)."""
-    ax = ax if ax is not None else _figure().add_subplot()
-    m = np.asarray(mass, float)
-    m = m[np.isfinite(m)]
-    handles = []
-    if m.size:
-        handles.append(ax.hist(m, bins=min(60, max(10, int(math.sqrt(m.size)))), color=PALETTE[0], alpha=0.75)[2])
-        for (k, v), ls in zip(percentiles.items(), (":", "-", "--", "-.")):
-            if math.isfinite(v):
-                handles.append(ax.axvline(v, color="k", ls=ls, lw=1, label=f"P{k} {v:,.0f} kg"))
-    n_ok = m.size
-    se = math.sqrt(max(feasible_fraction * (1 - feasible_fraction), 0.0) / n_total) if n_total else float("nan")
-    txt = (f"P(requirement set feasible) = {100 * feasible_fraction:.1f} %"
-           f"  (+/- {100 * 1.96 * se:.1f} %, 95 % binomial)\n{n_ok:,} of {n_total:,} samples feasible")
-    handles.append(ax.text(0.02, 0.97, txt, transform=ax.transAxes, va="top", fontsize=8,
-                           bbox=dict(facecolor="white", alpha=0.8, edgecolor="0.7")))
-    ax.set_xlabel("takeoff mass [kg]")
-    ax.set_ylabel("samples")
-    if m.size:
-        ax.legend(fontsize=7, loc="upper right")
-    return handles
-
-
-def driver_frequency(drivers, status, ax=None):
-    """Share of the samples driven by each set of requirements (horizontal bars)."""
-    ax = ax if ax is not None else _figure().add_subplot()
-    ok = np.asarray(status) == "optimal"
-    names, counts = np.unique(np.asarray(drivers, dtype=object)[ok].astype(str), return_counts=True)
-    order = np.argsort(counts)
-    n = max(len(status), 1)
-    bars = ax.barh([_driver_name(names[i]) for i in order], 100 * counts[order] / n, color=PALETTE[2])
-    ax.set_xlabel("share of all samples [%]")
-    ax.set_title("driving requirements", fontsize=9)
-    ax.tick_params(axis="y", labelsize=7)
-    return [bars]
-
-
-def costs(requirements, ax=None):
-    """Bar chart of each requirement's cost at the base point (one step of its value, kg)."""
-    from ..reports.summary import cost_step
-
-    ax = ax if ax is not None else _figure().add_subplot()
-    labels, values, colours = [], [], []
-    for r in requirements:
-        c = cost_step(r)
-        if r.active and c is not None:
-            labels.append(f"{c[0]} on {r.id}")
-            values.append(c[1])
-            colours.append(PALETTE[1])
-        else:
-            labels.append(f"{r.id} (margin {100 * r.margin:.1f} %)" if math.isfinite(r.margin) else r.id)
-            values.append(0.0 if c is None or not r.active else c[1])
-            colours.append("0.6")
-    y = np.arange(len(labels))
-    bars = ax.barh(y, values, color=colours)
-    ax.set_yticks(y, labels, fontsize=7)
-    ax.invert_yaxis()
-    for yi, v in zip(y, values):
-        ax.annotate(f"{v:+,.1f} kg" if v else "not active: 0 kg", (v, yi), xytext=(3, 0),
-                    textcoords="offset points", va="center", fontsize=7)
-    ax.set_xlabel("takeoff mass added by one step of the requirement [kg]")
-    ax.set_title("what each requirement costs at the base point (sensitivity)", fontsize=9)
-    return [bars]
-
-
 def write_plots(result, out_dir) -> list:
     """Draw and write the figures of a study result; the written paths."""
+    from ..charts.style import styles_of
+    from . import figures as F
+
     out = Path(out_dir)
     st, t = result.study, result.table
+    styles = styles_of(st.base)
     written = []
-    ok = (t["status"] == "optimal").to_numpy()
     title = st.title
     base = f"base: {st.base_file}"
+    status = t["status"].to_numpy()
     if st.mode == "sweep" and len(st.varied) == 1:
         v = st.varied[0]
         fig = _figure()
         ax = fig.add_subplot()
-        mass_curve(t[v.path].to_numpy(), t["takeoff_mass_kg"].to_numpy(), list(t["drivers"]),
-                   t["status"].to_numpy(), xlabel=_label(v.path, v.unit, st.base), ax=ax)
-        ax.set_title(title, fontsize=10)
+        F.mass_curve(t[v.path].to_numpy(), t["takeoff_mass_kg"].to_numpy(), list(t["drivers"]), status,
+                     xlabel=_label(v.path, v.unit, st.base), styles=styles, ax=ax)
+        ax.set_title(title, fontsize=F.FS["title"])
         _footer(fig, base)
         written.append(_save(fig, out / "mass.png"))
     elif st.mode == "sweep":
         va, vb = st.varied
         na, nb = st.shape
         n = len(t)
-        if n == na * nb:
-            shape = (na, nb)
-            rows = na
-        else:                      # a --limit run: whole rows only
-            rows = n // nb
-            shape = (rows, nb)
+        rows = na if n == na * nb else n // nb          # a --limit run: whole rows only
+        la, lb = _label(va.path, va.unit, st.base), _label(vb.path, vb.unit, st.base)
         if rows >= 1:
             k = rows * nb
-            mass = t["takeoff_mass_kg"].to_numpy()[:k].reshape(shape)
-            drv = np.asarray(t["drivers"].to_numpy()[:k], dtype=object).reshape(shape)
-            a = t[va.path].to_numpy()[:k].reshape(shape)[:, 0]
-            b = t[vb.path].to_numpy()[:k].reshape(shape)[0, :]
-            la, lb = _label(va.path, va.unit, st.base), _label(vb.path, vb.unit, st.base)
+            mass = t["takeoff_mass_kg"].to_numpy()[:k].reshape(rows, nb)
+            drv = np.asarray(t["drivers"].to_numpy()[:k], dtype=object).reshape(rows, nb)
+            a = t[va.path].to_numpy()[:k].reshape(rows, nb)[:, 0]
+            b = t[vb.path].to_numpy()[:k].reshape(rows, nb)[0, :]
             fig = _figure()
             ax = fig.add_subplot()
-            carpet(a, b, mass, la, lb, drivers=drv, ax=ax)
-            ax.set_title(title, fontsize=10)
+            ax.set_title(title, fontsize=F.FS["title"])
+            F.carpet(a, b, mass, la, lb, drivers=drv, styles=styles, ax=ax)
             _footer(fig, base)
             written.append(_save(fig, out / "carpet.png"))
             fig = _figure()
             ax = fig.add_subplot()
-            driver_map(a, b, mass, drv, la, lb, ax=ax)
-            ax.set_title(f"{title}: which requirements drive", fontsize=10)
+            F.driver_map(a, b, mass, drv, la, lb, styles=styles, ax=ax)
+            fig.suptitle(f"{title}: which requirements drive", fontsize=F.FS["title"])
             _footer(fig, base)
             written.append(_save(fig, out / "drivers-map.png"))
         # mass against the first parameter, one line per value of the second
         fig = _figure()
         ax = fig.add_subplot()
-        mass_family(t, va, vb, ax=ax)
-        ax.set_title(title, fontsize=10)
+        ax.set_title(title, fontsize=F.FS["title"])
+        F.mass_family(t[va.path].to_numpy(), t[vb.path].to_numpy(), t["takeoff_mass_kg"].to_numpy(),
+                      list(t["drivers"]), status, la, lb, styles=styles, ax=ax)
         _footer(fig, base)
         written.append(_save(fig, out / "mass.png"))
     else:
-        fig = _figure(figsize=(11.0, 5.0))
-        ax1, ax2 = fig.subplots(1, 2, width_ratios=(3, 2))
-        mass_distribution(t["takeoff_mass_kg"].to_numpy()[ok], len(t), result.feasible_fraction,
-                          result.percentiles(), ax=ax1)
-        ax1.set_title(title, fontsize=10)
-        driver_frequency(list(t["drivers"]), t["status"].to_numpy(), ax=ax2)
+        fig = _figure(figsize=(13.0, 6.2))
+        ax1, ax2 = fig.subplots(1, 2, width_ratios=(3, 1.6))
+        base_mass = (result.base.design.takeoff_mass if result.base is not None and result.base.feasible
+                     else None)
+        F.mass_distribution(t["takeoff_mass_kg"].to_numpy(), status, result.percentiles(),
+                            result.percentiles_all(), result.feasible_fraction, base_mass, ax=ax1)
+        ax1.set_title(title, fontsize=F.FS["title"])
+        F.driver_frequency(list(t["drivers"]), status, styles=styles, ax=ax2)
         vary = "; ".join(f"{v.path} {_dist_text(st.distributions.get(v.path, {}))}" for v in st.varied)
         _footer(fig, f"{base}; seed {st.seed}; {vary}")
         written.append(_save(fig, out / "mass-distribution.png"))
+        if len(st.varied) >= 1:
+            fig = _figure(figsize=(9.0, 2.4 + 0.5 * len(st.varied)))
+            ax = fig.add_subplot()
+            F.influence(result.influence(), {v.path: _label(v.path, v.unit, st.base) for v in st.varied}, ax=ax)
+            _footer(fig, f"{base}; seed {st.seed}; {len(t):,} samples")
+            written.append(_save(fig, out / "mass-influence.png"))
     if result.base is not None and result.base.feasible:
-        fig = _figure(figsize=(8.0, 1.6 + 0.35 * len(result.base.requirements)))
+        fig = _figure(figsize=(9.0, 1.8 + 0.42 * len(result.base.requirements)))
         ax = fig.add_subplot()
-        costs(result.base.requirements, ax=ax)
+        F.costs(result.base.requirements, styles=styles, ax=ax)
         _footer(fig, base)
         written.append(_save(fig, out / "costs.png"))
     return written
@@ -537,39 +341,3 @@ def _dist_text(d):
         if k != "unit":
             return f"{k}({', '.join(f'{x:g}' for x in v)}{' ' + d['unit'] if d.get('unit') else ''})"
     return ""
-
-
-def mass_family(t, va, vb, ax=None):
-    """Takeoff mass against the first parameter, one line per value of the second,
-    each point coloured by its driving requirements."""
-    from matplotlib import colormaps
-    from matplotlib.lines import Line2D
-
-    ax = ax if ax is not None else _figure().add_subplot()
-    handles = []
-    ok = (t["status"] == "optimal").to_numpy()
-    names = _driver_sets(list(t["drivers"]), ok)
-    col = _colours(names)
-    grey = colormaps["Greys"]
-    vals = list(dict.fromkeys(t[vb.path].to_numpy()))
-    for k, bv in enumerate(vals):
-        sel = (t[vb.path] == bv).to_numpy()
-        x = t.loc[sel, va.path].to_numpy()
-        m = t.loc[sel, "takeoff_mass_kg"].to_numpy()
-        o = np.argsort(x, kind="stable")
-        handles.append(ax.plot(x[o], m[o], "-", color=grey(0.35 + 0.6 * k / max(len(vals) - 1, 1)), lw=1.1)[0])
-        j = np.flatnonzero(np.isfinite(m[o]))
-        if j.size:
-            handles.append(ax.annotate(f"{bv:g}", (x[o][j[-1]], m[o][j[-1]]), xytext=(3, 0),
-                                       textcoords="offset points", fontsize=7, va="center"))
-    for n in names:
-        sel = ok & (t["drivers"] == n).to_numpy()
-        handles.append(ax.scatter(t.loc[sel, va.path], t.loc[sel, "takeoff_mass_kg"], s=14, color=col[n],
-                                  zorder=3, label=_driver_name(n)))
-    leg = [Line2D([], [], color="0.5", label=f"lines: constant {_label(vb.path, vb.unit)} (labelled at the right)")]
-    ax.legend(handles=leg + [h for h in handles if hasattr(h, "get_offsets")], fontsize=7,
-              title="driving requirements", title_fontsize=7)
-    ax.set_xlabel(_label(va.path, va.unit))
-    ax.set_ylabel("takeoff mass [kg]")
-    ax.grid(True, alpha=0.3)
-    return handles

@@ -115,6 +115,26 @@ def _drivers(ctx, x, p, g=None):
     return drivers + (["mission fuel"] if prob.mission_drives(x, p, prob.rows, g) else [])
 
 
+def _conflicting(prob, x, p, tol=1e-6) -> list:
+    """The requirements in conflict at an infeasible point, cheaply: those whose constraint
+    rows are violated (by more than ``tol`` in the rows' scaling) where the infeasible solve
+    ended, IPOPT's point of least infeasibility (or the coarse scan's best point), and
+    ``weight closure`` when the closure row does not hold there. A pointer for the reviewer,
+    not a proof: a different point of least infeasibility may name another set;
+    ``sizing solve`` on the sample's file gives the full diagnosis with relaxations."""
+    try:
+        g = _rows(prob, x, p)
+    except Exception:  # noqa: BLE001 - a point the model cannot evaluate names nothing
+        return []
+    names = []
+    for (rid, what), v in zip(prob.rows, g):
+        bad = (abs(v) > tol) if what == "closure" else (v < -tol)
+        name = rid or "weight closure"          # the closure and the useful-load rows
+        if (bad or not math.isfinite(v)) and name not in names:
+            names.append(name)
+    return names
+
+
 def _rows_ok(prob, vals, tol_closure=1e-6, tol=None) -> np.ndarray:
     """The acceptance rule of Problem.verify on constraint rows (scalars or arrays)."""
     tol = VERIFY_TOL if tol is None else tol
@@ -156,7 +176,7 @@ def _solve_point(ctx, p, warm):
             if st.get("return_status") in _SUCCESS and _rows_ok(prob, _rows(prob, x, p)):
                 return 0, x, (x, np.array(sol["lam_g"]).ravel(), np.array(sol["lam_x"]).ravel()), iters, False
         if not ctx.confirm and not _rows_ok(prob, _rows(prob, guess, p), 1e-3, 1e-3):
-            return 1, x, None, iters, True
+            return 1, (guess if x is None else x), None, iters, True
     x, lg, lx, st, ok = prob.solve_raw(p)
     iters += st.get("iter_count", 0) or 0
     if ok:
@@ -199,6 +219,8 @@ def _run_chunk(job, chunk):
             code[i], x, w, iters[i], checked[i] = _solve_point(ctx, ctx.params(P[i]), warm)
         except Exception:  # noqa: BLE001 - one bad point never stops a study
             code[i], checked[i] = 2, True
+        if code[i] == 1 and x is not None:
+            X[i] = x                    # where the infeasible solve ended: names the conflict
         if code[i] == 0:
             X[i] = x
             done.append(i)
@@ -211,15 +233,18 @@ def _run_chunk(job, chunk):
         x, _lg, _lx, st, ok = prob.solve_raw(ctx.params(P[i]))
         iters[i] += st.get("iter_count", 0) or 0
         code[i] = 0 if ok else (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2)
-        X[i] = x if ok else np.nan
+        X[i] = x if ok or code[i] == 1 else np.nan
         rows[i] = None
     out = np.full((n, 4), np.nan)
-    drivers = [""] * n
+    drivers, conflicting = [""] * n, [""] * n
+    for i in np.flatnonzero((code == 1) & np.all(np.isfinite(X), axis=1)):
+        conflicting[i] = ";".join(_conflicting(prob, X[i], ctx.params(P[i])))
     for i in np.flatnonzero(code == 0):
         W_S, Y, m = X[i, 0] * prob.WS_scale, X[i, 1] * prob.Y_scale, X[i, 2] * prob.m_ref
         out[i] = (W_S, Y, m, m * G0 / W_S)
         drivers[i] = ";".join(_drivers(ctx, X[i], ctx.params(P[i]), rows[i]))
     return {"chunk": cid, "idx": np.asarray(idx), "code": code, "out": out, "drivers": drivers,
+            "conflicting": conflicting,
             "iterations": iters, "fallbacks": int(checked.sum()), "seconds": time.perf_counter() - t0}
 
 
@@ -351,8 +376,24 @@ class StudyResult:
         return float((self.table["status"] == STATUS_OK).mean()) if len(self.table) else float("nan")
 
     def percentiles(self, q=(5, 50, 95)) -> dict:
-        m = self.table.loc[self.table["status"] == STATUS_OK, "takeoff_mass_kg"].to_numpy()
-        return {k: (float(np.percentile(m, k)) if m.size else float("nan")) for k in q}
+        """{q: takeoff mass [kg]} over the feasible points only (NaN without any)."""
+        from .statistics import percentiles_feasible
+
+        return percentiles_feasible(self.table["takeoff_mass_kg"], self.table["status"], q)
+
+    def percentiles_all(self, q=(5, 50, 95)) -> dict:
+        """{q: takeoff mass [kg] or None} over every point with a verdict, infeasible points
+        ranked above every feasible mass (None: not reached; :mod:`sizing.studies.statistics`)."""
+        from .statistics import percentiles_all
+
+        return percentiles_all(self.table["takeoff_mass_kg"], self.table["status"], q)
+
+    def influence(self) -> list:
+        """[(parameter path, Spearman rho)] of the varied inputs on takeoff mass, strongest first."""
+        from .statistics import rank_influence
+
+        t = self.table
+        return rank_influence({v.path: t[v.path] for v in self.study.varied}, t["takeoff_mass_kg"], t["status"])
 
     def write(self, output_dir) -> list:
         """Write results.csv, study.json and the plots into output_dir; the paths."""
@@ -391,6 +432,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     bar = Progress(n, label="study", enabled=progress)
     code, out = np.full(n, 2, dtype=np.int8), np.full((n, 4), np.nan)
     drivers = np.array([""] * n, dtype=object)
+    conflicting = np.array([""] * n, dtype=object)
     iters = fallbacks = 0
     # Ctrl-C or SIGTERM stop the study within a solve: Interrupted propagates, the
     # workers are ended, and no result (so no output) exists
@@ -401,6 +443,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
         try:
             for r in results:
                 code[r["idx"]], out[r["idx"]], drivers[r["idx"]] = r["code"], r["out"], r["drivers"]
+                conflicting[r["idx"]] = r["conflicting"]
                 iters, fallbacks = iters + int(r["iterations"].sum()), fallbacks + r["fallbacks"]
                 bar.update(len(r["idx"]))
                 stop.check()
@@ -412,7 +455,8 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     y_col = "power_to_weight_W_per_N" if study.base.is_propeller else "thrust_to_weight"
     table = pd.DataFrame({**cols, "status": [_CODES[int(c)] for c in code],
                           "wing_loading_Pa": out[:, 0], y_col: out[:, 1], "takeoff_mass_kg": out[:, 2],
-                          "wing_area_m2": out[:, 3], "drivers": list(drivers)})
+                          "wing_area_m2": out[:, 3], "drivers": list(drivers),
+                          "conflicting": list(conflicting)})
     base = None
     if costs:
         from ..problem import solve
