@@ -71,6 +71,18 @@ class Placer:
     def take(self, rect):
         self.taken.append(rect)
 
+    def _candidates(self, key, min_points):
+        """The line `key` in pixels and up to 90 of its points inside the axes (evenly spread
+        along it), or (line, None) where it has fewer than ``min_points`` or none inside."""
+        p = self.lines.get(key)
+        if p is None or len(p) < min_points:
+            return p, None
+        bx0, by0, bx1, by1 = self.box
+        inside = np.where((p[:, 0] > bx0) & (p[:, 0] < bx1) & (p[:, 1] > by0) & (p[:, 1] < by1))[0]
+        if inside.size == 0:
+            return p, None
+        return p, inside[np.linspace(0, inside.size - 1, min(inside.size, 90)).astype(int)]
+
     def along(self, key, w, h, prefer=0.5, spread=0.25, side=False, gap=4.0):
         """Best place for a w x h box on (``side=False``) or beside the line `key`.
 
@@ -78,14 +90,9 @@ class Placer:
         a rising curve or a vertical limit, right of a falling one). Returns
         (centre x, centre y, rect, cost) in pixels, or None if nowhere fits.
         """
-        p = self.lines.get(key)
-        if p is None or len(p) == 0:
+        p, cand = self._candidates(key, 1)
+        if cand is None:
             return None
-        bx0, by0, bx1, by1 = self.box
-        inside = np.where((p[:, 0] > bx0) & (p[:, 0] < bx1) & (p[:, 1] > by0) & (p[:, 1] < by1))[0]
-        if inside.size == 0:
-            return None
-        cand = inside[np.linspace(0, inside.size - 1, min(inside.size, 90)).astype(int)]
         best, best_c = None, math.inf
         for j, i in enumerate(cand):
             cx, cy = p[i]
@@ -113,14 +120,10 @@ class Placer:
     def inline(self, key, w, h, prefer=0.5, spread=0.35, margin=3.0):
         """Best place for a w x h label written along the line `key` (rotated to its slope, on it):
         (centre x, centre y, bounding rect, cost, angle [deg]) in pixels, or None."""
-        p = self.lines.get(key)
-        if p is None or len(p) < 3:
+        p, cand = self._candidates(key, 3)
+        if cand is None:
             return None
         bx0, by0, bx1, by1 = self.box
-        inside = np.where((p[:, 0] > bx0) & (p[:, 0] < bx1) & (p[:, 1] > by0) & (p[:, 1] < by1))[0]
-        if inside.size == 0:
-            return None
-        cand = inside[np.linspace(0, inside.size - 1, min(inside.size, 90)).astype(int)]
         best, best_c = None, math.inf
         for j, i in enumerate(cand):
             cx, cy = p[i]
