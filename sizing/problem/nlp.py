@@ -188,8 +188,12 @@ class Problem:
             m_TO = x[2] * self.m_ref
             V = {rid: x[3 + i] * self.V_scale for i, rid in enumerate(self.free)}
             rows, vals, f_fuel, f_empty, _betas = self.expressions(tree, W_S, Y, m_TO, V)
-            g = ca.vertcat(*vals)
             f = self._objective(W_S, Y, m_TO, f_fuel)
+            # one node per distinct subexpression (the same atmosphere, polar or lapse is
+            # written several times per requirement): a third fewer operations for IPOPT's
+            # derivatives to build and evaluate
+            shared = ca.cse(ca.vertcat(*vals, f, f_fuel, f_empty))
+            g, f, f_fuel, f_empty = shared[:len(vals)], shared[len(vals)], shared[-2], shared[-1]
             self.solver = ca.nlpsol("sizing", "ipopt", {"x": x, "p": P, "f": f, "g": g}, IPOPT_OPTIONS)
             if name is not None:
                 cached.save(name, rows, ca.Function("expressions", [x, P], [g, f, f_fuel, f_empty]),
