@@ -16,6 +16,7 @@ import argparse
 import copy
 import json
 import os
+import shutil
 import statistics
 import subprocess
 import sys
@@ -28,13 +29,18 @@ BEFORE = "cef045a"        # main before the speed work (issue 12)
 WORKERS = 2
 
 # the figures bench/RESULTS.md gave for the code before, on a quiet machine (seconds)
-QUIET_BEFORE = {"solve10": 0.388, "raw10": 0.027, "build10": 0.072, "cli": 0.844, "sweep": 0.826, "mc": 17.2}
+QUIET_BEFORE = {"solve10": 0.388, "raw10": 0.027, "build10": 0.072, "build10_cache": 0.072, "cli": 0.844,
+                "cli_nocache": 0.844, "sweep": 0.826, "mc": 17.2}
 # name -> (what is measured, target, reps of the pair)
 MEASURES = {
     "solve10": ("`sizing.solve(spec)`, 10 requirements, with margins, costs and texts", "25 ms or less", 3),
     "raw10": ("`Problem.solve_raw` from scratch (no start given), 10 requirements", "3 ms or less", 3),
-    "build10": ("problem build, 10 requirements", "20 ms or less", 3),
-    "cli": ("cold `sizing solve requirements/trainer-jet.yaml`", "0.5 s or less and at most 1.6x the imports", 2),
+    "build10": ("problem build, 10 requirements (no cache)", "20 ms or less", 3),
+    "build10_cache": ("problem build, 10 requirements, from the on-disk cache", "20 ms or less (a cache hit)", 0),
+    "cli": ("cold `sizing solve requirements/trainer-jet.yaml` (the file seen before: on-disk cache)",
+            "0.5 s or less and at most 1.6x the imports", 2),
+    "cli_nocache": ("cold `sizing solve requirements/trainer-jet.yaml` with `SIZING_CACHE=0` (a new file)",
+                    "0.5 s or less and at most 1.6x the imports", 0),
     "imports": ("`python -c \"import numpy, casadi\"` (the floor)", "", 0),
     "sweep": ("1,000-point sweep, 2 processes", "0.4 s or less", 3),
     "mc": ("10,000-sample Monte Carlo, 2 processes, infeasible verdicts confirmed", "6 s or less", 1),
@@ -72,24 +78,38 @@ def _timed(f, n):
 def child(name: str) -> dict:
     """One measurement in this interpreter (cwd: the tree's root); seconds."""
     if name in ("cli", "imports"):
-        code = {"cli": None, "imports": "import numpy, casadi"}
-        cli, imp = [], []
-        for _ in range(5):         # the CLI and the floor alternate
-            t = time.perf_counter()
-            r = subprocess.run([sys.executable, "-m", "sizing", "solve", "requirements/trainer-jet.yaml"],
-                               capture_output=True, text=True)
-            cli.append(time.perf_counter() - t)
-            assert r.returncode == 0, r.stderr
-            t = time.perf_counter()
-            subprocess.run([sys.executable, "-c", code["imports"]], check=True)
-            imp.append(time.perf_counter() - t)
-        return {"cli": cli, "imports": imp}
+        # the CLI with the on-disk cache (filled by one run first, in a folder of its own), the
+        # floor, and the CLI with the cache off, alternating (the tree before the cache ignores it)
+        cache_dir = tempfile.mkdtemp(prefix="sizing-bench-cache-")
+        env = {**os.environ, "SIZING_CACHE": "1", "SIZING_CACHE_DIR": cache_dir}
+        off = {**env, "SIZING_CACHE": "0"}
+        argv = [sys.executable, "-m", "sizing", "solve", "requirements/trainer-jet.yaml"]
+        subprocess.run(argv, capture_output=True, env=env, check=True)
+        cli, imp, nocache = [], [], []
+        for _ in range(5):
+            for out, cmd, e in ((cli, argv, env), (imp, [sys.executable, "-c", "import numpy, casadi"], env),
+                                (nocache, argv, off)):
+                t = time.perf_counter()
+                r = subprocess.run(cmd, capture_output=True, text=True, env=e)
+                out.append(time.perf_counter() - t)
+                assert r.returncode == 0, r.stderr
+        shutil.rmtree(cache_dir, ignore_errors=True)
+        return {"cli": cli, "imports": imp, "cli_nocache": nocache}
     from sizing.inputs.spec import load, validate
     if name in ("solve10", "raw10", "build10"):
         from sizing.problem import Problem, solve
         spec = _ten(load, validate)
         if name == "build10":
-            return {name: _timed(lambda: Problem(spec), 5)}
+            plain = _timed(lambda: Problem(spec), 5)
+            # from the on-disk cache (a spec loaded with cache=True uses it; the tree before
+            # the cache builds as usual): one build stores, then every build reads it back
+            cache_dir = tempfile.mkdtemp(prefix="sizing-bench-cache-")
+            os.environ.update(SIZING_CACHE="1", SIZING_CACHE_DIR=cache_dir)
+            spec.cached = True
+            Problem(spec)
+            hit = _timed(lambda: Problem(spec), 5)
+            shutil.rmtree(cache_dir, ignore_errors=True)
+            return {name: plain, "build10_cache": hit}
         if name == "raw10":
             prob = Problem(spec)
             p0 = prob.parameters(spec)

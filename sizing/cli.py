@@ -124,7 +124,7 @@ def _figure_options(p):
 def _solve(path):
     from .inputs.spec import load
 
-    spec = load(path)        # bad input is reported before the optimizer is even imported
+    spec = load(path, cache=True)  # bad input is reported before the optimizer is even imported
     from .problem import solve
 
     return spec, solve(spec)

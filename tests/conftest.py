@@ -12,6 +12,11 @@ settings.register_profile("repeatable", derandomize=True, database=None, print_b
 settings.register_profile("fuzz", derandomize=False, database=None, print_blob=True, deadline=None)
 settings.load_profile(os.environ.get("SIZING_HYPOTHESIS_PROFILE", "repeatable"))
 
+# The on-disk cache of validated files and built problems (sizing.common.cache) is off in
+# tests (also in the console scripts they start), unless a run asks for it; tests/test_cache.py
+# turns it on in a temporary folder.
+os.environ.setdefault("SIZING_CACHE", "0")
+
 
 def pytest_configure(config):
     config.addinivalue_line("markers", "slow: a long group (brute-force grids, random sets); `make test` "

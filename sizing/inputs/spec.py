@@ -10,26 +10,32 @@ from __future__ import annotations
 
 import hashlib
 
-from pydantic import BaseModel, ValidationError
-
+from ..common import cache as disk_cache
 from ..common.errors import InputError
 from ..physics.propulsion import PROPELLER_TYPES
 from . import units
-from .locate import located
 from .reader import read_text, read_yaml
-from .schema import RequirementFile
+
+# pydantic and the file-format models (``schema``) are imported on first validation: a file
+# found in the cache (``load(..., cache=True)``, :mod:`sizing.inputs.snapshot`) needs neither
 
 EMPTY = "the file is empty; a requirement file is a mapping with title, aircraft and requirements"
 
 
 class Spec:
-    """A validated requirement file: the model, its raw data and its SI tree."""
+    """A validated requirement file: the model, its raw data and its SI tree.
 
-    def __init__(self, model: RequirementFile, data: dict, path: str = "<memory>", text: str = ""):
+    ``model`` is the pydantic model, or for a file read from the cache its
+    :class:`~sizing.inputs.snapshot.Node` stand-in (the same attributes).
+    """
+
+    def __init__(self, model, data: dict, path: str = "<memory>", text: str = "", tree: dict | None = None):
         self.model = model
         self.data = data
         self.path = path
         self.sha256 = hashlib.sha256(text.encode()).hexdigest() if text else ""
+        self._tree = tree
+        self.cached = False       # loaded with cache=True: the built problem may use the cache too
 
     @property
     def title(self) -> str:
@@ -44,8 +50,10 @@ class Spec:
         return self.model.aircraft.propulsion.type in PROPELLER_TYPES
 
     def tree(self) -> dict:
-        """Nested dicts of SI floats with the YAML's key names (defaults filled)."""
-        return _si(self.model)
+        """Nested dicts of SI floats with the YAML's key names (defaults filled); a new copy."""
+        if self._tree is None:
+            self._tree = _si(self.model)
+        return _copy(self._tree)
 
     def requirement(self, rid: str):
         for r in self.model.requirements:
@@ -54,12 +62,21 @@ class Spec:
         raise KeyError(rid)
 
 
+def _copy(node):
+    if isinstance(node, dict):
+        return {k: _copy(v) for k, v in node.items()}
+    if isinstance(node, list):
+        return [_copy(v) for v in node]
+    return node
+
+
 def _si(obj):
     if isinstance(obj, units.Quantity):
         return obj.si
-    if isinstance(obj, BaseModel):
+    fields = getattr(type(obj), "model_fields", None)
+    if fields is not None:       # a pydantic model
         out = {}
-        for name in type(obj).model_fields:
+        for name in fields:
             v = getattr(obj, name)
             if v is None:
                 continue
@@ -80,6 +97,11 @@ def validate(data, filename: str = "<memory>", lines: dict | None = None, text: 
     The error describes the first problem in file order and carries the
     others in ``InputError.others``.
     """
+    from pydantic import ValidationError
+
+    from .locate import located
+    from .schema import RequirementFile
+
     lines = lines or {(): 1}
     if not isinstance(data, dict):
         raise InputError(f"a requirement file is a mapping with title, aircraft and requirements, "
@@ -102,13 +124,39 @@ def load_text(text: str, filename: str = "<memory>") -> Spec:
     return validate(data, filename, lines, text)
 
 
-def load(path) -> Spec:
+def load(path, cache: bool = False) -> Spec:
     """Read and validate a requirement file; raises :class:`InputError`.
 
     The file is only read, never written; devices, folders and pipes are
-    refused (:func:`sizing.inputs.reader.read_text`).
+    refused (:func:`sizing.inputs.reader.read_text`). With ``cache=True`` (the
+    command line's solve and charts) a file that validated before, with the
+    same bytes and the same code, is read back from the on-disk cache
+    (:mod:`sizing.common.cache`, off when ``SIZING_CACHE=0``) without pydantic; its
+    ``model`` is then a :class:`~sizing.inputs.snapshot.Node` tree. A file
+    that does not validate is never cached.
     """
-    return load_text(read_text(path), str(path))
+    text = read_text(path)
+    if not (cache and disk_cache.enabled()):
+        return load_text(text, str(path))
+    from . import snapshot
+
+    name = disk_cache.key("spec", text.encode("utf-8", "surrogatepass"))
+    payload = disk_cache.read(name)
+    if payload is not None:
+        try:
+            model, data, tree = snapshot.restore(payload)
+            spec = Spec(model, data, str(path), text, tree)
+            spec.cached = True
+            return spec
+        except ValueError:
+            pass                  # not ours after all: validate as if it were absent
+    spec = load_text(text, str(path))
+    spec.cached = True
+    try:
+        disk_cache.write(name, snapshot.store(spec.model, spec.data, _si(spec.model)))
+    except snapshot.Unsupported:
+        pass
+    return spec
 
 
 def json_schema() -> dict:
@@ -119,6 +167,8 @@ def json_schema() -> dict:
     values and the ranges of CLmax, Mach numbers and load factors. Units,
     the other ranges and cross-field rules are checked by :func:`load` only.
     """
+    from .schema import RequirementFile
+
     schema = no_nulls(RequirementFile.model_json_schema())
     schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
     schema["title"] = "sizing requirement file"

@@ -31,6 +31,7 @@ from .. import constraints as C
 from .. import weights as Wt
 from ..common import stop
 from ..physics.propulsion import is_propeller
+from . import cached
 from . import tree as M
 from .package import ACTIVE_TOL, mission_drives, package  # noqa: F401 (ACTIVE_TOL re-exported)
 from .start import scan
@@ -169,19 +170,37 @@ class Problem:
         nv = 3 + len(self.free)
         x = ca.SX.sym("x", nv)
         P = ca.SX.sym("p", len(self.paths))
-        tree = M.substitute(self.tree0, {p: P[i] for i, p in enumerate(self.paths)})
-        W_S = x[0] * self.WS_scale
-        Y = x[1] * self.Y_scale
-        m_TO = x[2] * self.m_ref
-        V = {rid: x[3 + i] * self.V_scale for i, rid in enumerate(self.free)}
-        rows, vals, f_fuel, f_empty, betas = self.expressions(tree, W_S, Y, m_TO, V)
-        g = ca.vertcat(*vals)
-        f = self._objective(W_S, Y, m_TO, f_fuel)
+        name = hit = None
+        if cached.wanted(self.spec):
+            # what the graph depends on besides the parameters: structure, scales, options
+            name = cached.key(self.structure, self.paths, self.free, self.objective, self.propeller,
+                              repr((self.m_ref, self.Y_scale, self.WS_scale, self.V_scale)),
+                              sorted(IPOPT_OPTIONS.items()), TIE_ENGINE, TIE_WING)
+            hit = cached.load(name, nv, len(self.paths))
+        self.built_from_cache = hit is not None
+        if hit is not None:
+            rows, expr, self.solver = hit
+            g, f, f_fuel, f_empty = expr(x, P)
+        else:
+            tree = M.substitute(self.tree0, {p: P[i] for i, p in enumerate(self.paths)})
+            W_S = x[0] * self.WS_scale
+            Y = x[1] * self.Y_scale
+            m_TO = x[2] * self.m_ref
+            V = {rid: x[3 + i] * self.V_scale for i, rid in enumerate(self.free)}
+            rows, vals, f_fuel, f_empty, _betas = self.expressions(tree, W_S, Y, m_TO, V)
+            f = self._objective(W_S, Y, m_TO, f_fuel)
+            # one node per distinct subexpression (the same atmosphere, polar or lapse is
+            # written several times per requirement): a third fewer operations for IPOPT's
+            # derivatives to build and evaluate
+            shared = ca.cse(ca.vertcat(*vals, f, f_fuel, f_empty))
+            g, f, f_fuel, f_empty = shared[:len(vals)], shared[len(vals)], shared[-2], shared[-1]
+            self.solver = ca.nlpsol("sizing", "ipopt", {"x": x, "p": P, "f": f, "g": g}, IPOPT_OPTIONS)
+            if name is not None:
+                cached.save(name, rows, ca.Function("expressions", [x, P], [g, f, f_fuel, f_empty]),
+                            self.solver)
         self.rows = rows
         self._x, self._P = x, P
         self._g_expr, self._f_expr = g, f
-        nlp = {"x": x, "p": P, "f": f, "g": g}
-        self.solver = ca.nlpsol("sizing", "ipopt", nlp, IPOPT_OPTIONS)
         self._solver_warm = self._dLdp = None      # built on first use
         self._g_fun = ca.Function("g", [x, P], [g, f_fuel, f_empty])
         self.lbg = np.zeros(len(rows))
