@@ -414,7 +414,7 @@ def test_margins_read_in_the_requirement_documents_terms(solved):
     # common practice, no source: each new form prints its margin in its own terms, airspeeds
     # labelled, the climb segment's paragraph beside it
     jet = summary(solved["long-range-jet.yaml"][1])
-    for words in ("balanced field", "over 35 ft", "kn CAS vs 135 kn CAS limit", "14 CFR 25.121(b)",
+    for words in ("balanced field", "over 35 ft", "kn CAS vs 125 kn CAS limit", "14 CFR 25.121(b)",
                   "14 CFR 25.121(d)", "field length", "landing distance / 0.6", "max landing fraction"):
         assert words in jet, words
     prop = summary(solved["regional-turboprop.yaml"][1])

@@ -274,9 +274,9 @@ def _breguet_mission_fuel(m0, R, spec, res):
     the file's table, k1 = 1/(pi A e), ambiance for the air."""
     S, g = res.design.wing_area, G0
     cd0 = PchipInterpolator([0.0, 0.75, 0.85, 0.9], [0.0175, 0.0180, 0.0200, 0.0240])
-    k1 = 1 / (math.pi * 8.5 * 0.80)
+    k1 = 1 / (math.pi * 9.0 * 0.80)
     beta = 0.970 * 0.985
-    a = atm(43000 * FT)
+    a = atm(41000 * FT)
     V = 0.80 * float(a.speed_of_sound[0])
     q = 0.5 * float(a.density[0]) * V ** 2
     CL = beta * m0 * g / S / q
@@ -299,9 +299,9 @@ def test_payload_range_corners_against_breguet_by_hand(solved):
         c = pr.corner(name)
         R = brentq(lambda R: _breguet_mission_fuel(c.takeoff_mass, R, spec, res) - c.fuel, 0.0, 4e7)
         assert c.range == pytest.approx(R, rel=2e-4), name          # ambiance vs the 1976 standard
-    # the corners of the file's capacities: 1 800 kg payload, 6 000 kg fuel
+    # the corners of the file's capacities: 2 600 kg payload, 13 500 kg fuel
     cap = spec.model.aircraft.weights.max_fuel.si         # the file's fuel capacity
-    assert pr.corner("max-payload").payload == 1800.0 and pr.corner("ferry").fuel == cap
+    assert pr.corner("max-payload").payload == 2600.0 and pr.corner("ferry").fuel == cap
     assert pr.corner("max-fuel").payload == pytest.approx(d.takeoff_mass - d.empty_mass - d.crew_mass - cap)
     r = [pr.corner(n).range for n in ("max-payload", "design", "max-fuel", "ferry")]
     assert r == sorted(r)

