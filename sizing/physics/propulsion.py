@@ -203,7 +203,8 @@ def rated_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
     takeoff shaft power for a propeller engine. Mattingly's military correlations
     (Eqs. 2.54b, 2.55b) are published against the maximum (wet) sea-level static thrust
     (0.6 and 0.8 of it at sea-level static); dividing by that value refers them to the dry
-    thrust. Every other family already gives 1 there (for TR >= 1).
+    thrust. Every other family already gives 1 there (for TR >= 1). "Dry" is Mattingly's
+    "military" rating: the highest rating without afterburning.
 
     Examples
     --------
@@ -240,13 +241,32 @@ def rating_name(engine_type, afterburner=False) -> str:
     """The rating the sizing thrust (power) is quoted at, in words.
 
     >>> rating_name("turbofan-low-bypass")
-    'dry (military) rating'
+    'dry rating'
     """
     if is_propeller(engine_type):
         return "takeoff rating"
     if engine_type == "turbofan-high-bypass":
         return "takeoff rating"
-    return "maximum (wet) rating" if afterburner else "dry (military) rating"
+    return "maximum (wet) rating" if afterburner else "dry rating"
+
+
+def reference_label(propeller, rating) -> str:
+    """What the design's T_SL (P_SL) is, in words, for every output's label.
+
+    >>> reference_label(False, "dry rating")
+    'sea-level static thrust, dry rating, installed, standard day'
+    """
+    what = "sea-level static shaft power" if propeller else "sea-level static thrust"
+    return f"{what}, {rating or 'top rating'}, installed, standard day"
+
+
+def axis_label(propeller, rating) -> str:
+    """Short name of the diagram's y quantity.
+
+    >>> axis_label(False, "dry rating")
+    'T_SL/W_TO, dry rating'
+    """
+    return f"{'P_SL/W_TO' if propeller else 'T_SL/W_TO'}, {rating or 'top rating'}"
 
 
 def is_propeller(engine_type) -> bool:
