@@ -108,7 +108,7 @@ def summary(result, path: str = "") -> str:
         lines.append(f"  thrust per engine  {d.thrust_per_engine / 1000:,.2f} kN  "
                      f"({d.thrust_per_engine / N_PER_LBF:,.0f} lbf), {_engines(d.engines)}")
         if d.dry_thrust is not None:
-            lines.append(f"  dry thrust-to-weight {d.dry_thrust_to_weight:,.4f}  ({axis_label(False, DRY)})")
+            lines.append(f"  dry T/W            {d.dry_thrust_to_weight:,.4f}  ({axis_label(False, DRY)})")
             lines.append(f"  dry thrust         {d.dry_thrust / 1000:,.2f} kN  ({d.dry_thrust / N_PER_LBF:,.0f} lbf): "
                          f"{reference_label(False, DRY)}")
     lines.append(f"  takeoff mass       {d.takeoff_mass:,.0f} kg  ({d.takeoff_mass / LB:,.0f} lb)")
