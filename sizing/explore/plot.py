@@ -15,8 +15,8 @@ import math
 import numpy as np
 
 from ..charts.diagram_data import nice
-from ..physics.propulsion import axis_label
 from ..charts.style import DESIGN_COLOUR, FEASIBLE_FILL, MASS_COLOUR, NO_CLOSURE_FILL
+from ..physics.propulsion import axis_label
 
 # matplotlib marker and dash codes of charts.style -> Bokeh's names
 _MARKERS = {"o": "circle", "s": "square", "^": "triangle", "D": "diamond", "v": "inverted_triangle",

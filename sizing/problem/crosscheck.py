@@ -105,7 +105,7 @@ def cross_check(result, spec=None):
     else:
         prop = spec.model.aircraft.propulsion
         rating = rating_name(prop.type, bool(getattr(prop, "afterburner", False)))
-        rows.append(ClassRow(f"T/W at the {rating} (sea-level static)", "thrust_to_weight", "-",
+        rows.append(ClassRow(f"T/W at the {rating}", "thrust_to_weight", "-",
                              d.thrust_to_weight, b.typical, b.lo, b.hi))
     if cls.propeller != result.propeller:
         note = (note + "; " if note else "") + (f"a {cls.title} class for a "

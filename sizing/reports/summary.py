@@ -96,7 +96,7 @@ def summary(result, path: str = "") -> str:
     if result.propeller:
         P = d.power_to_weight
         lines.append(f"  power-to-weight    {P:,.2f} W/N  ({P * g0 / 1000:,.4f} kW/kg, "
-                     f"{P * N_PER_LBF / HP:,.4f} hp/lb)")
+                     f"{P * N_PER_LBF / HP:,.4f} hp/lb): {axis_label(True, d.rating)}")
         lines.append(f"  sea-level power    {d.power / 1000:,.1f} kW  ({d.power / HP:,.0f} hp): "
                      f"{reference_label(True, d.rating)}")
         lines.append(f"  power per engine   {d.power_per_engine / 1000:,.1f} kW  ({d.power_per_engine / HP:,.0f} hp), "
