@@ -222,3 +222,21 @@ def test_trainer_engine_mass_and_class_check_use_the_dry_thrust():
     row = next(r for r in check.rows if r.key == "thrust_to_weight")
     assert row.design == d.thrust_to_weight and "dry rating" in row.quantity
     assert all(r.inside for r in check.rows)
+
+
+def test_one_lapse_for_the_whole_model():
+    # common practice, no source: the model flies one lapse. Outside the physics module only
+    # constraints.flight.lapse calls the rated lapse, and nothing outside it calls the published one,
+    # so constraints, charts (envelope, turn, hot-and-high, performance) and the explore page agree.
+    import re
+
+    calls = {}
+    for path in sorted((ROOT / "sizing").rglob("*.py")):
+        if path.name == "propulsion.py":
+            continue
+        text = path.read_text()
+        for name in ("thrust_lapse", "rated_lapse", "lapse_low_bypass", "lapse_turbojet", "lapse_high_bypass",
+                     "power_lapse_piston", "power_lapse_turboprop"):
+            if re.search(rf"\b{name}\(", text):
+                calls.setdefault(name, []).append(path.relative_to(ROOT).as_posix())
+    assert calls == {"rated_lapse": ["sizing/constraints/flight.py"]}
