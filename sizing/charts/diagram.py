@@ -21,6 +21,7 @@ from pathlib import Path
 import numpy as np
 
 from ..physics.atmosphere import g0
+from ..physics.propulsion import axis_label
 from .diagram_data import DiagramData, curves_csv, diagram_data, nice
 from .labels import Placer, clear, put, thin
 from .style import (
@@ -131,8 +132,7 @@ def constraint_diagram(spec, result=None, ax=None, *, units="si", title=True, fo
     ax.set(xlim=(xl, xh), ylim=(yl, yh))
     ax.tick_params(labelsize=FONT["tick"])
     ax.set_xlabel(f"wing loading  W/S  [{u.x_unit}]", fontsize=FONT["axis"])
-    what = "power-to-weight  P/W" if data.propeller else "thrust-to-weight  T/W"
-    ax.set_ylabel(f"sea-level {what}  [{u.y_unit}]", fontsize=FONT["axis"])
+    ax.set_ylabel(f"{axis_label(data.propeller, data.rating)}  [{u.y_unit}]", fontsize=FONT["axis"])
     ax.grid(True, color="#d9d9d9", linewidth=0.6, zorder=0)
     ax.set_axisbelow(True)
     if units == "si":      # the same axes in kg/m^2 and kW/kg, for those who think in mass

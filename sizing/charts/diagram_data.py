@@ -17,6 +17,7 @@ import numpy as np
 from .. import constraints as C
 from .. import weights as Wt
 from ..common.conversions import FT, KN
+from ..physics.propulsion import rating_name
 from ..problem import tree as M
 from .style import styles_of
 from .style import units_for as _units
@@ -73,6 +74,7 @@ class DiagramData:
     styles: dict = field(default_factory=dict)        # id -> style.IdStyle (one per id in every figure)
     references: tuple = ()            # (label, W/S [N/m^2], T/W or P/W [W/N]) the file lists
     view: str = "auto"                # "auto": zoomed on what matters; "full": every curve's minimum
+    rating: str = ""                  # the rating T_SL (P_SL) is quoted at ("dry (military) rating", ...)
 
     def envelope(self):
         """(required Y at each W/S over all thrust curves, lowest W/S boundary)."""
@@ -343,7 +345,13 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
                        drivers=tuple(result.drivers), on_edge=tuple(result.on_edge),
                        infeasibility=result.infeasibility, source=Path(str(spec.path)).name,
                        sha256=spec.sha256, styles=styles_of(spec), references=reference_points(spec),
-                       view=view)
+                       view=view, rating=rating_of(spec))
+
+
+def rating_of(spec) -> str:
+    """The rating the file's T_SL (P_SL) is quoted at (:func:`sizing.physics.propulsion.rating_name`)."""
+    prop = spec.model.aircraft.propulsion
+    return rating_name(prop.type, bool(getattr(prop, "afterburner", False)))
 
 
 def reference_points(spec) -> tuple:

@@ -91,6 +91,7 @@ class Envelope:
     energy: np.ndarray | None = None         # energy height h + V^2/(2 g0) [m] over the altitude x mach grid
     speed_limit_text: str = "speed limit"
     styles: dict = field(default_factory=dict)   # id -> style.IdStyle (the same in every figure)
+    rating: str = ""                             # the rating T_SL (P_SL) is quoted at ("dry rating", ...)
 
     def to_frame(self):
         """The envelope table as a pandas DataFrame, one row per quantity."""
@@ -348,7 +349,7 @@ def compute_envelope(spec, res, weight_fraction=None, altitudes=90, machs=150):
                     points=tuple(points), rows=tuple(rows), notes=tuple(notes), coffin=cc, zoom=zoom,
                     energy=energy_height(H, Mg * np.asarray(isa(H).speed_of_sound, dtype=float)),
                     speed_limit_text=speed_limit_text(ac),
-                    styles=styles_of(spec))
+                    styles=styles_of(spec), rating=res.design.rating)
 
 
 def speed_limit_text(ac) -> str:

@@ -262,7 +262,8 @@ def plot_envelope(env: Envelope, ax=None, **kwargs):
     ax.secondary_yaxis("right", functions=(lambda f: f * FT / 1000.0, lambda k: k * 1000.0 / FT)
                        ).set_ylabel("pressure altitude [km]")
     ax.grid(True, color="#dddddd", lw=0.5, zorder=-1)
-    y_text = f"P/W {env.power_or_thrust:.2f} W/N" if env.propeller else f"T/W {env.power_or_thrust:.3f}"
+    y_text = (f"P_SL/W_TO {env.power_or_thrust:.2f} W/N" if env.propeller
+              else f"T_SL/W_TO {env.power_or_thrust:.3f}") + f" ({env.rating or 'top rating'})"
     ax.set_title(opt["title"] or f"{env.title}: flight envelope at weight fraction {env.weight_fraction:.2f}\n"
                  f"W/S {env.wing_loading:,.0f} N/m$^2$, {y_text}; standard day, clean, full throttle", fontsize=10)
     if h["own"]:

@@ -23,7 +23,8 @@ Thrust kinds are built on the master equation (Mattingly Eq. 2.11):
     T_SL/W_TO = (beta/alpha) [ (q/(beta W/S)) (k1 (n beta W/S / q)^2
                 + k2 (n beta W/S / q) + CD0) + Ps/V ]
 
-with beta = W/W_TO, alpha the thrust lapse, q = rho V^2 / 2, Ps the
+with beta = W/W_TO, alpha the thrust lapse (referenced to the engine's top
+rating, 1 at sea-level static standard day: ``flight.lapse``), q = rho V^2 / 2, Ps the
 specific excess power [m/s]. For propeller aircraft the thrust needed at V
 becomes sea-level power through T = eta_p P / V (Gudmundsson §3.2):
 

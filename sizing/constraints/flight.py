@@ -22,7 +22,7 @@ import numpy as np
 from ..physics import airspeed
 from ..physics import shim as m
 from ..physics.atmosphere import g0, isa
-from ..physics.propulsion import actuator_disk_power, is_propeller, thrust_lapse
+from ..physics.propulsion import actuator_disk_power, is_propeller, rated_lapse
 
 FT_PER_MIN = 0.3048 / 60.0
 SERVICE_CEILING_CLIMB_RATE = 100.0 * FT_PER_MIN   # 0.508 m/s, docs/references.md §10
@@ -168,12 +168,16 @@ def engine_out_drag(req, ac):
 
 
 def lapse(req, ac, V, air, throttle=1.0):
-    """Available fraction of sea-level thrust (jets) or power (props) at V."""
+    """Available fraction of the rated sea-level static thrust (jets) or power (props) at V.
+
+    The one lapse of the model: :func:`sizing.physics.propulsion.rated_lapse`, 1 at sea-level
+    static, standard day, at the engine's top rating (dry without afterburner), or the
+    requirement's ``thrust_lapse`` when given (a fraction of that same thrust or power)."""
     alpha = getattr(req, "thrust_lapse", None)
     if alpha is None:
         M = V / air.speed_of_sound
-        alpha = thrust_lapse(ac.engine_type, req.altitude, M, req.temperature_offset,
-                             ac.throttle_ratio, ac.afterburner)
+        alpha = rated_lapse(ac.engine_type, req.altitude, M, req.temperature_offset,
+                            ac.throttle_ratio, ac.afterburner)
     return alpha * throttle
 
 

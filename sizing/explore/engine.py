@@ -44,8 +44,10 @@ from ..common.fileio import atomic_write
 from ..inputs.rewrite import replace_values, set_value
 from ..inputs.spec import load, load_text, validate
 from ..physics.atmosphere import g0
+from ..physics.propulsion import axis_label, reference_label
 from ..problem import ACTIVE_TOL, Problem
 from ..problem import tree as M
+from ..problem.package import rating_fields
 from ..problem.result import Design, RequirementResult, Result
 from .controls import controls_of, shown
 
@@ -75,10 +77,14 @@ class Numbers:
     fuel_mass: float         # [kg]
     fixed_mass: float        # crew + payload [kg]
     drivers: tuple = ()      # active requirement ids (and "mission fuel")
+    rating: str = ""         # the rating thrust (power) is quoted at ("dry rating", ...)
+    engines: int = 1
+    dry_fraction: float | None = None   # dry over rated sea-level static thrust (afterburning jets)
 
     @property
     def thrust_or_power(self) -> float:
-        """Sea-level static thrust [N] (jets) or power [W] (propeller aircraft)."""
+        """Installed sea-level static thrust [N] (jets, top rating) or shaft power [W] (propeller
+        aircraft, takeoff rating), standard day."""
         return self.y * self.takeoff_mass * g0
 
     def rows(self) -> list:
@@ -89,12 +95,20 @@ class Numbers:
         if self.propeller:
             out.append(("power-to-weight", "power-to-weight", f"{self.y:,.2f} W/N",
                         f"{self.y * g0 / 1000:,.4f} kW/kg, {self.y * N_PER_LBF / HP:,.4f} hp/lb"))
-            out.append(("power", "sea-level power", f"{self.thrust_or_power / 1000:,.1f} kW",
-                        f"{self.thrust_or_power / HP:,.0f} hp"))
+            P, n = self.thrust_or_power, self.engines
+            out.append(("power", reference_label(True, self.rating), f"{P / 1000:,.1f} kW", f"{P / HP:,.0f} hp"))
+            out.append(("power-per-engine", f"shaft power per engine ({n} engine{'s' if n != 1 else ''})",
+                        f"{P / n / 1000:,.1f} kW", f"{P / n / HP:,.0f} hp"))
         else:
-            out.append(("thrust-to-weight", "thrust-to-weight", f"{self.y:,.4f}", ""))
-            out.append(("thrust", "sea-level thrust", f"{self.thrust_or_power / 1000:,.2f} kN",
-                        f"{self.thrust_or_power / N_PER_LBF:,.0f} lbf"))
+            T, n = self.thrust_or_power, self.engines
+            out.append(("thrust-to-weight", f"thrust-to-weight {axis_label(False, self.rating)}", f"{self.y:,.4f}", ""))
+            out.append(("thrust", reference_label(False, self.rating), f"{T / 1000:,.2f} kN",
+                        f"{T / N_PER_LBF:,.0f} lbf"))
+            out.append(("thrust-per-engine", f"thrust per engine ({n} engine{'s' if n != 1 else ''})",
+                        f"{T / n / 1000:,.2f} kN", f"{T / n / N_PER_LBF:,.0f} lbf"))
+            if self.dry_fraction is not None:
+                out.append(("dry-thrust", reference_label(False, "dry rating"), f"{T * self.dry_fraction / 1000:,.2f} kN",
+                            f"T/W {self.y * self.dry_fraction:,.4f}"))
         out += [("takeoff-mass", "takeoff mass", f"{m:,.0f} kg", f"{m / LB:,.0f} lb"),
                 ("wing-area", "wing area", f"{self.wing_area:,.2f} m²", f"{self.wing_area / FT2:,.1f} ft²"),
                 ("empty-mass", "empty mass", f"{self.empty_mass:,.0f} kg", f"{self.empty_mass / m:.3f} of takeoff"),
@@ -110,7 +124,8 @@ class Numbers:
             return None
         return cls(result.propeller, d.wing_loading, d.power_to_weight if result.propeller else d.thrust_to_weight,
                    d.takeoff_mass, d.wing_area, d.empty_mass, d.fuel_mass, d.crew_mass + d.payload_mass,
-                   tuple(result.drivers))
+                   tuple(result.drivers), d.rating, d.engines,
+                   None if d.dry_thrust is None else d.dry_thrust / d.thrust)
 
 
 @dataclass
@@ -292,8 +307,11 @@ class Explorer:
                 drivers.append(rid)
         if prob.mission_drives(x, p, prob.rows, g):
             drivers.append("mission fuel")
-        fixed = prob.fixed_mass(prob.tree_of(p))
-        return Numbers(prob.propeller, W_S, Y, m, m * g0 / W_S, f_empty * m, f_fuel * m, fixed, tuple(drivers))
+        tree = prob.tree_of(p)
+        fixed = prob.fixed_mass(tree)
+        r = rating_fields(M.aircraft(tree, m), None if prob.propeller else 1.0)
+        return Numbers(prob.propeller, W_S, Y, m, m * g0 / W_S, f_empty * m, f_fuel * m, fixed, tuple(drivers),
+                       r["rating"], r["engines"], r["dry_thrust"])
 
     def light_result(self, step) -> Result:
         """A result with the quick numbers only (for drawing the curves before the margins)."""
@@ -303,7 +321,9 @@ class Explorer:
                           design=None, spec=step.spec)
         design = Design(n.wing_loading, None if n.propeller else n.y, n.y if n.propeller else None,
                         n.takeoff_mass, n.wing_area, n.empty_mass, n.fuel_mass,
-                        None if n.propeller else n.thrust_or_power, n.thrust_or_power if n.propeller else None)
+                        None if n.propeller else n.thrust_or_power, n.thrust_or_power if n.propeller else None,
+                        engines=n.engines, rating=n.rating,
+                        dry_thrust=None if n.dry_fraction is None else n.dry_fraction * n.thrust_or_power)
         reqs = tuple(RequirementResult(rid, r["kind"], rid in n.drivers, math.nan, None, "", "", "")
                      for rid, r in M.spec_tree(step.spec)["requirements"].items())
         return Result(title=step.spec.title, status="optimal", propeller=n.propeller, design=design,

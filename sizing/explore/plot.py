@@ -16,6 +16,7 @@ import numpy as np
 
 from ..charts.diagram_data import nice
 from ..charts.style import DESIGN_COLOUR, FEASIBLE_FILL, MASS_COLOUR, NO_CLOSURE_FILL
+from ..physics.propulsion import axis_label
 
 # matplotlib marker and dash codes of charts.style -> Bokeh's names
 _MARKERS = {"o": "circle", "s": "square", "^": "triangle", "D": "diamond", "v": "inverted_triangle",
@@ -41,8 +42,7 @@ class DiagramView:
         from bokeh.plotting import figure
 
         self.propeller = data.propeller
-        ylab = ("sea-level power-to-weight  P/W  [W/N]" if data.propeller
-                else "sea-level thrust-to-weight  T/W  [–]")
+        ylab = f"{axis_label(data.propeller, data.rating)}  [{'W/N' if data.propeller else '–'}]"
         self.fig = fig = figure(width=width, height=height, x_axis_label="wing loading  W/S  [N/m²]",
                                 y_axis_label=ylab, tools="pan,wheel_zoom,box_zoom,reset,save",
                                 x_range=Range1d(*data.x_range), y_range=Range1d(*data.y_range),

@@ -205,7 +205,8 @@ class Propulsion(Strict):
     type: Literal["turbojet", "turbofan-low-bypass", "turbofan-high-bypass", "turboprop", "piston"]
     engines: Count = Field(1, ge=1, le=8)
     throttle_ratio: Number = 1.0
-    afterburner: bool = False
+    afterburner: bool = Field(False, description="fly at the maximum (wet) rating: T_SL is then the maximum "
+                              "sea-level static thrust, else the dry one (turbojet, low-bypass turbofan)")
     propeller_efficiency: Number = 0.8
     takeoff_propeller_efficiency: Optional[Number] = Field(None, description="propeller efficiency in the "
                                                            "field kinds; default the cruise value")
@@ -273,7 +274,8 @@ class WingLoadFactor(Strict):
 class EmptyComponents(Strict):
     model: Literal["components"]
     wing: ArealMass
-    propulsion: EngineMass
+    propulsion: EngineMass = Field(description="installed propulsion mass per newton of sea-level static thrust "
+                                   "at the engine's top rating (per watt of shaft power at takeoff rating)")
     other: Fraction
     wing_load_factor: Optional[WingLoadFactor] = None
 

@@ -1,7 +1,10 @@
 """Installed full-throttle thrust lapse and power lapse per engine family.
 
 alpha = T / T_SL (jets) or P / P_SL (propeller engines) as a function of the
-flight condition. The jet correlations are Mattingly's, written in the
+flight condition. :func:`thrust_lapse` gives the correlations as published;
+:func:`rated_lapse` (what the sizing model flies) divides them by their value at
+sea-level static, standard day, so that T_SL is the thrust at the engine's own
+top rating (dry without afterburner). The jet correlations are Mattingly's, written in the
 dimensionless total (stagnation) conditions
 
     theta0 = (T/T_std) (1 + (gamma-1)/2 M^2)
@@ -186,6 +189,84 @@ def thrust_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
     if engine_type == "turbojet":
         return lapse_turbojet(theta0, delta0, mach, throttle_ratio, afterburner)
     raise ValueError(f"unknown engine type {engine_type!r}; valid: {', '.join(ENGINE_TYPES)}")
+
+
+def rated_lapse(engine_type, altitude_m, mach, temperature_offset_K=0.0,
+                throttle_ratio=1.0, afterburner=False):
+    """Full-throttle lapse referenced to the engine's own top rating: 1 at sea-level static, standard day.
+
+    alpha = alpha_published(h, M, dT) / alpha_published(0, 0, 0), both from
+    :func:`thrust_lapse` at the same rating. The sizing model flies every requirement with
+    this lapse, so its T_SL (P_SL) is the installed sea-level static thrust (power), standard
+    day, at the rating the engine flies at: dry (military) for a turbojet or low-bypass
+    turbofan without afterburner, maximum (wet) with one, takeoff for a high-bypass turbofan,
+    takeoff shaft power for a propeller engine. Mattingly's military correlations
+    (Eqs. 2.54b, 2.55b) are published against the maximum (wet) sea-level static thrust
+    (0.6 and 0.8 of it at sea-level static); dividing by that value refers them to the dry
+    thrust. Every other family already gives 1 there (for TR >= 1). "Dry" is Mattingly's
+    "military" rating: the highest rating without afterburning.
+
+    Examples
+    --------
+    Source: Mattingly Eq. 2.54b: military low-bypass at sea-level static, TR 1.05 -> 0.6 published,
+    1 referenced to the dry rating; the hot-day warm-up of check 4.7-a (0.5390 published) is
+    0.5390 / 0.6 = 0.8984 of the dry thrust.
+
+    >>> round(float(thrust_lapse("turbofan-low-bypass", 0.0, 0.0, 0.0, 1.05)), 6)
+    0.6
+    >>> float(rated_lapse("turbofan-low-bypass", 0.0, 0.0, 0.0, 1.05))
+    1.0
+    """
+    ref = thrust_lapse(engine_type, 0.0, 0.0, 0.0, throttle_ratio, afterburner)
+    return thrust_lapse(engine_type, altitude_m, mach, temperature_offset_K, throttle_ratio, afterburner) / ref
+
+
+def dry_to_rated(engine_type, throttle_ratio=1.0, afterburner=False):
+    """Dry (military) over rated sea-level static thrust, standard day [-].
+
+    1 without afterburner (the rated thrust is the dry one); with afterburner the published
+    military over maximum lapse at sea-level static: 0.6 for a low-bypass turbofan
+    (Mattingly Eq. 2.54b over 2.54a) and 0.8 for a turbojet (Eq. 2.55b over 2.55a) when TR >= 1.
+
+    >>> round(float(dry_to_rated("turbojet", 1.0, True)), 6)
+    0.8
+    """
+    if not afterburner or engine_type not in ("turbojet", "turbofan-low-bypass"):
+        return 1.0
+    return (thrust_lapse(engine_type, 0.0, 0.0, 0.0, throttle_ratio, False)
+            / thrust_lapse(engine_type, 0.0, 0.0, 0.0, throttle_ratio, True))
+
+
+def rating_name(engine_type, afterburner=False) -> str:
+    """The rating the sizing thrust (power) is quoted at, in words.
+
+    >>> rating_name("turbofan-low-bypass")
+    'dry rating'
+    """
+    if is_propeller(engine_type):
+        return "takeoff rating"
+    if engine_type == "turbofan-high-bypass":
+        return "takeoff rating"
+    return "maximum (wet) rating" if afterburner else "dry rating"
+
+
+def reference_label(propeller, rating) -> str:
+    """What the design's T_SL (P_SL) is, in words, for every output's label.
+
+    >>> reference_label(False, "dry rating")
+    'sea-level static thrust, dry rating, installed, standard day'
+    """
+    what = "sea-level static shaft power" if propeller else "sea-level static thrust"
+    return f"{what}, {rating or 'top rating'}, installed, standard day"
+
+
+def axis_label(propeller, rating) -> str:
+    """Short name of the diagram's y quantity.
+
+    >>> axis_label(False, "dry rating")
+    'T_SL/W_TO, dry rating'
+    """
+    return f"{'P_SL/W_TO' if propeller else 'T_SL/W_TO'}, {rating or 'top rating'}"
 
 
 def is_propeller(engine_type) -> bool:

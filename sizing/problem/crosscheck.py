@@ -7,7 +7,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..common.conversions import HP, LBF_FT2, N_PER_LBF
-from ..physics.propulsion import thrust_lapse
+from ..physics.propulsion import rating_name
 from ..weights.classes import CLASSES, typical_empty_fraction
 
 
@@ -81,9 +81,10 @@ def class_of(spec):
 def cross_check(result, spec=None):
     """The :class:`ClassCheck` of a feasible result whose file declares ``aircraft.class``, else None.
 
-    The design's T/W is compared at the rating the engines fly at takeoff (the tables' convention):
-    the printed sea-level static T/W times the full-throttle lapse at sea-level static of the
-    file's rating (``afterburner``), from :func:`sizing.physics.propulsion.thrust_lapse`.
+    The design's T/W is compared at the rating the engines fly at takeoff (the tables'
+    convention), which is the rating the tool quotes its sea-level static thrust at: dry
+    (military) without afterburner, maximum with one, takeoff for a high-bypass turbofan
+    (:func:`sizing.physics.propulsion.rated_lapse`).
     """
     spec = spec if spec is not None else result.spec
     name = class_of(spec)
@@ -103,16 +104,9 @@ def cross_check(result, spec=None):
                              d.power_to_weight * N_PER_LBF / HP, b.typical, b.lo, b.hi))
     else:
         prop = spec.model.aircraft.propulsion
-        ab = bool(getattr(prop, "afterburner", False))
-        alpha = float(thrust_lapse(prop.type, 0.0, 0.0, 0.0, float(getattr(prop, "throttle_ratio", 1.0) or 1.0), ab))
-        rating = "maximum (afterburning)" if ab else "dry (military)"
-        if prop.type == "turbofan-high-bypass":
-            rating = "takeoff"
-        rows.append(ClassRow(f"T/W at the {rating} rating", "thrust_to_weight", "-",
-                             d.thrust_to_weight * alpha, b.typical, b.lo, b.hi))
-        if abs(alpha - 1.0) > 1e-9:
-            note = (f"the tool's T/W {d.thrust_to_weight:.3f} is referenced to the maximum rating; the "
-                    f"{rating} rating gives {alpha:.2f} of it at sea-level static")
+        rating = rating_name(prop.type, bool(getattr(prop, "afterburner", False)))
+        rows.append(ClassRow(f"T/W at the {rating}", "thrust_to_weight", "-",
+                             d.thrust_to_weight, b.typical, b.lo, b.hi))
     if cls.propeller != result.propeller:
         note = (note + "; " if note else "") + (f"a {cls.title} class for a "
                                                 f"{'propeller aircraft' if result.propeller else 'jet'}")

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from .. import weights as Wt
 from ..physics.airspeed import true_airspeed
 from ..physics.atmosphere import isa
+from ..physics.propulsion import reference_label
 from ..weights.empty import required_load_factors, wing_load_factor_scale
 from . import tree as M
 
@@ -37,8 +38,8 @@ class DesignFacts:
     span: float                     # [m]
     aspect_ratio: float             # [-]
     engines: int
-    thrust_per_engine: float | None  # sea-level static [N] (jets)
-    power_per_engine: float | None   # sea-level [W] (propeller aircraft)
+    thrust_per_engine: float | None  # sea-level static, top rating [N] (jets)
+    power_per_engine: float | None   # sea-level static shaft power, takeoff rating [W] (propeller aircraft)
     empty_breakdown: tuple          # (component, mass [kg], how it is computed)
     cruise: tuple                   # CruisePoint each
 
@@ -74,7 +75,8 @@ def design_facts(spec, result) -> DesignFacts | None:
                   f"{e['wing']:g} kg/m² x {d.wing_area:,.2f} m²" + (f" x load-factor scale {scale:.3f}"
                                                                        if abs(scale - 1) > 1e-12 else "")),
                  ("propulsion", e["propulsion"] * engine,
-                  f"{e['propulsion'] * 1000:g} kg/{per} x {engine / 1000:,.1f} {per}"),
+                  f"{e['propulsion'] * 1000:g} kg/{per} x {engine / 1000:,.1f} {per} "
+                  f"({reference_label(result.propeller, d.rating)})"),
                  ("other (systems, fuselage, equipment)", e["other"] * d.takeoff_mass,
                   f"{e['other']:g} x takeoff mass")]
     else:

@@ -16,6 +16,7 @@ import numpy as np
 from .. import constraints as C
 from .. import weights as Wt
 from ..physics.atmosphere import g0
+from ..physics.propulsion import dry_to_rated, rating_name
 from . import tree as M
 from .capability import describe_margin, margin_at, sensitivity_unit
 from .result import Design, RequirementResult, Result
@@ -86,7 +87,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         wing_area=g / W_S, empty_mass=f_empty * m_TO, fuel_mass=f_fuel * m_TO,
         thrust=None if prob.propeller else Y * g, power=Y * g if prob.propeller else None,
         crew_mass=tree["aircraft"]["weights"].get("crew", 0.0),
-        payload_mass=tree["aircraft"]["weights"].get("payload", 0.0))
+        payload_mass=tree["aircraft"]["weights"].get("payload", 0.0),
+        **rating_fields(ac, None if prob.propeller else Y * g))
     edges = []
     for name, val, (lo, hi) in (
             ("wing_loading", W_S, prob.WS_bounds),
@@ -106,6 +108,18 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                     fuel_breakdown=fuel_rows, other_costs=other, objective=prob.objective,
                     stats=dict(stats),
                     spec=spec)
+
+def rating_fields(ac, thrust):
+    """Design fields of the engine rating: engine count, the rating's name and, with an
+    afterburner, the dry sea-level static thrust [N]."""
+    n = int(round(float(np.asarray(ac.engines))))
+    ab = bool(getattr(ac, "afterburner", False))
+    dry = None
+    if thrust is not None and ab:
+        r = float(np.asarray(dry_to_rated(ac.engine_type, float(np.asarray(ac.throttle_ratio)), ab)))
+        dry = thrust * r if r < 1.0 else None
+    return {"engines": n, "rating": rating_name(ac.engine_type, ab), "dry_thrust": dry}
+
 
 def mission_drives(prob, x, p, rows, vals) -> bool:
     """Mission fuel sets the wing loading when fewer than two requirement

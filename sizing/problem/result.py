@@ -33,10 +33,30 @@ class Design:
     wing_area: float             # [m^2]
     empty_mass: float            # [kg]
     fuel_mass: float             # [kg]
-    thrust: float | None         # sea-level static thrust [N]
-    power: float | None          # sea-level power [W]
+    thrust: float | None         # installed sea-level static thrust, standard day, top rating [N]
+    power: float | None          # installed sea-level static shaft power, standard day, takeoff rating [W]
     crew_mass: float = 0.0
     payload_mass: float = 0.0
+    engines: int = 1             # installed engines
+    rating: str = ""             # the rating thrust (power) is quoted at: "dry (military) rating", ...
+    dry_thrust: float | None = None  # dry sea-level static thrust [N] (afterburning jets only)
+
+    @property
+    def thrust_per_engine(self) -> float | None:
+        """Sea-level static thrust per engine at the top rating [N] (jets)."""
+        return None if self.thrust is None else self.thrust / self.engines
+
+    @property
+    def power_per_engine(self) -> float | None:
+        """Sea-level static shaft power per engine at the takeoff rating [W] (propeller aircraft)."""
+        return None if self.power is None else self.power / self.engines
+
+    @property
+    def dry_thrust_to_weight(self) -> float | None:
+        """Dry T_SL/W_TO [-] (afterburning jets only)."""
+        if self.dry_thrust is None or not self.thrust:
+            return None
+        return self.thrust_to_weight * self.dry_thrust / self.thrust
 
 
 @dataclass(frozen=True)

@@ -19,6 +19,7 @@ from pathlib import Path
 from ..common.caution import CAUTION
 from ..common.conversions import FT, FT2, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
+from ..physics.propulsion import axis_label, reference_label
 from .summary import cost_line, md_cell, md_escape, relaxation_heading
 
 REPORT_DPI = 110
@@ -44,22 +45,27 @@ def _design_rows(res, facts=None):
     rows = [["wing loading W/S", f"{W:,.0f} N/m²", f"{W / g0:,.1f} kg/m²", f"{W / LBF_FT2:,.2f} lb/ft²"]]
     if res.propeller:
         P = d.power_to_weight
-        rows.append(["power-to-weight P/W (sea level)", f"{P:,.2f} W/N", f"{P * g0 / 1000:,.4f} kW/kg",
+        rows.append([f"power-to-weight {axis_label(True, d.rating)}", f"{P:,.2f} W/N", f"{P * g0 / 1000:,.4f} kW/kg",
                      f"{P * N_PER_LBF / HP:,.4f} hp/lb"])
-        rows.append(["sea-level power", f"{d.power / 1000:,.1f} kW", f"{d.power / HP:,.0f} hp", ""])
+        rows.append([reference_label(True, d.rating), f"{d.power / 1000:,.1f} kW", f"{d.power / HP:,.0f} hp", ""])
     else:
-        rows.append(["thrust-to-weight T/W (sea level)", f"{d.thrust_to_weight:.4f}", "", ""])
-        rows.append(["sea-level static thrust", f"{d.thrust / 1000:,.2f} kN", f"{d.thrust / N_PER_LBF:,.0f} lbf", ""])
+        rows.append([f"thrust-to-weight {axis_label(False, d.rating)}", f"{d.thrust_to_weight:.4f}", "", ""])
+        rows.append([reference_label(False, d.rating), f"{d.thrust / 1000:,.2f} kN", f"{d.thrust / N_PER_LBF:,.0f} lbf", ""])
+        if d.dry_thrust is not None:
+            rows.append([f"thrust-to-weight {axis_label(False, 'dry rating')}", f"{d.dry_thrust_to_weight:.4f}", "", ""])
+            rows.append([reference_label(False, "dry rating"), f"{d.dry_thrust / 1000:,.2f} kN",
+                         f"{d.dry_thrust / N_PER_LBF:,.0f} lbf", ""])
     rows.append(["takeoff mass", f"{d.takeoff_mass:,.0f} kg", f"{d.takeoff_mass / LB:,.0f} lb", ""])
     rows.append(["wing area", f"{d.wing_area:,.2f} m²", f"{d.wing_area / FT2:,.1f} ft²", ""])
     f = facts
     if f is not None:
         rows.append([f"wing span (aspect ratio {f.aspect_ratio:g})", f"{f.span:,.2f} m", f"{f.span / FT:,.1f} ft", ""])
         if f.thrust_per_engine is not None:
-            rows.append([f"sea-level static thrust per engine ({f.engines} engine{'s' if f.engines > 1 else ''})",
+            rows.append([f"sea-level static thrust per engine, {d.rating} ({f.engines} engine{'s' if f.engines > 1 else ''})",
                          f"{f.thrust_per_engine / 1000:,.2f} kN", f"{f.thrust_per_engine / N_PER_LBF:,.0f} lbf", ""])
         else:
-            rows.append([f"sea-level power per engine ({f.engines} engine{'s' if f.engines > 1 else ''})",
+            rows.append([f"sea-level static shaft power per engine, {d.rating} "
+                         f"({f.engines} engine{'s' if f.engines > 1 else ''})",
                          f"{f.power_per_engine / 1000:,.1f} kW", f"{f.power_per_engine / HP:,.0f} hp", ""])
     return rows
 

@@ -5,6 +5,7 @@ import json
 import math
 
 from ..common.caution import CAUTION
+from ..physics.propulsion import reference_label
 
 
 def as_dict(result) -> dict:
@@ -22,8 +23,18 @@ def as_dict(result) -> dict:
                     "empty_mass_kg": d.empty_mass, "fuel_mass_kg": d.fuel_mass})
         if result.propeller:
             des["power_W"] = d.power
+            des["power_per_engine_W"] = d.power_per_engine
         else:
             des["thrust_N"] = d.thrust
+            des["thrust_per_engine_N"] = d.thrust_per_engine
+            if d.dry_thrust is not None:
+                des["dry_thrust_N"] = d.dry_thrust
+                des["dry_thrust_to_weight"] = d.dry_thrust_to_weight
+        des["engines"] = d.engines
+        des["rating"] = d.rating
+        des["power_W_is" if result.propeller else "thrust_N_is"] = reference_label(result.propeller, d.rating)
+        if d.dry_thrust is not None:
+            des["dry_thrust_N_is"] = reference_label(False, "dry rating")
         out["design"] = des
         out["requirements"] = [{
             "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,

@@ -8,6 +8,7 @@ import re
 from ..common.caution import CAUTION
 from ..common.conversions import HP, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
+from ..physics.propulsion import axis_label, reference_label
 
 
 def step_for(unit: str, value: float):
@@ -63,6 +64,13 @@ def relaxation_text(rid, rel) -> str:
     return f"{rid}: {was}{rel.get('yaml') or f'{field}: ' + rel.get('text', '?')}"
 
 
+DRY = "dry rating"
+
+
+def _engines(n) -> str:
+    return f"{n} engine{'s' if n != 1 else ''}"
+
+
 def summary(result, path: str = "") -> str:
     """The readable terminal summary of a result."""
     lines = [result.title, "=" * len(result.title)]
@@ -88,11 +96,21 @@ def summary(result, path: str = "") -> str:
     if result.propeller:
         P = d.power_to_weight
         lines.append(f"  power-to-weight    {P:,.2f} W/N  ({P * g0 / 1000:,.4f} kW/kg, "
-                     f"{P * N_PER_LBF / HP:,.4f} hp/lb)")
-        lines.append(f"  sea-level power    {d.power / 1000:,.1f} kW  ({d.power / HP:,.0f} hp)")
+                     f"{P * N_PER_LBF / HP:,.4f} hp/lb): {axis_label(True, d.rating)}")
+        lines.append(f"  sea-level power    {d.power / 1000:,.1f} kW  ({d.power / HP:,.0f} hp): "
+                     f"{reference_label(True, d.rating)}")
+        lines.append(f"  power per engine   {d.power_per_engine / 1000:,.1f} kW  ({d.power_per_engine / HP:,.0f} hp), "
+                     f"{_engines(d.engines)}")
     else:
-        lines.append(f"  thrust-to-weight   {d.thrust_to_weight:,.4f}")
-        lines.append(f"  sea-level thrust   {d.thrust / 1000:,.2f} kN  ({d.thrust / N_PER_LBF:,.0f} lbf)")
+        lines.append(f"  thrust-to-weight   {d.thrust_to_weight:,.4f}  ({axis_label(False, d.rating)})")
+        lines.append(f"  sea-level thrust   {d.thrust / 1000:,.2f} kN  ({d.thrust / N_PER_LBF:,.0f} lbf): "
+                     f"{reference_label(False, d.rating)}")
+        lines.append(f"  thrust per engine  {d.thrust_per_engine / 1000:,.2f} kN  "
+                     f"({d.thrust_per_engine / N_PER_LBF:,.0f} lbf), {_engines(d.engines)}")
+        if d.dry_thrust is not None:
+            lines.append(f"  dry T/W            {d.dry_thrust_to_weight:,.4f}  ({axis_label(False, DRY)})")
+            lines.append(f"  dry thrust         {d.dry_thrust / 1000:,.2f} kN  ({d.dry_thrust / N_PER_LBF:,.0f} lbf): "
+                         f"{reference_label(False, DRY)}")
     lines.append(f"  takeoff mass       {d.takeoff_mass:,.0f} kg  ({d.takeoff_mass / LB:,.0f} lb)")
     lines.append(f"  wing area          {d.wing_area:,.2f} m^2  ({d.wing_area / 0.09290304:,.1f} ft^2)")
     lines.append(f"  empty mass         {d.empty_mass:,.0f} kg  ({d.empty_mass / d.takeoff_mass:.3f} of takeoff)")

@@ -16,6 +16,7 @@ import math
 from ..common.caution import CAUTION
 from ..common.conversions import FT, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
+from ..physics.propulsion import axis_label, reference_label
 
 HEAD_ROWS = 3          # caution, provenance, a blank row; the table's header is on row 4
 
@@ -80,22 +81,27 @@ def _design_frame(spec, res, facts):
     rows = [("wing loading W/S", d.wing_loading, "N/m²"), ("wing loading W/S", d.wing_loading / g0, "kg/m²"),
             ("wing loading W/S", d.wing_loading / LBF_FT2, "lb/ft²")]
     if res.propeller:
-        rows += [("power-to-weight P/W (sea level)", d.power_to_weight, "W/N"),
-                 ("power-to-weight P/W (sea level)", d.power_to_weight * N_PER_LBF / HP, "hp/lb"),
-                 ("sea-level power", d.power / 1000.0, "kW"), ("sea-level power", d.power / HP, "hp")]
+        rows += [(f"power-to-weight {axis_label(True, d.rating)}", d.power_to_weight, "W/N"),
+                 (f"power-to-weight {axis_label(True, d.rating)}", d.power_to_weight * N_PER_LBF / HP, "hp/lb"),
+                 (reference_label(True, d.rating), d.power / 1000.0, "kW"),
+                 (reference_label(True, d.rating), d.power / HP, "hp")]
     else:
-        rows += [("thrust-to-weight T/W (sea-level static)", d.thrust_to_weight, "-"),
-                 ("sea-level static thrust", d.thrust / 1000.0, "kN"),
-                 ("sea-level static thrust", d.thrust / N_PER_LBF, "lbf")]
+        rows += [(f"thrust-to-weight {axis_label(False, d.rating)}", d.thrust_to_weight, "-"),
+                 (reference_label(False, d.rating), d.thrust / 1000.0, "kN"),
+                 (reference_label(False, d.rating), d.thrust / N_PER_LBF, "lbf")]
+        if d.dry_thrust is not None:
+            rows += [(f"thrust-to-weight {axis_label(False, 'dry rating')}", d.dry_thrust_to_weight, "-"),
+                     (reference_label(False, "dry rating"), d.dry_thrust / 1000.0, "kN"),
+                     (reference_label(False, "dry rating"), d.dry_thrust / N_PER_LBF, "lbf")]
     rows += [("takeoff mass", d.takeoff_mass, "kg"), ("takeoff mass", d.takeoff_mass / LB, "lb"),
              ("wing area", d.wing_area, "m²")]
     if facts is not None:
         rows += [("wing span", facts.span, "m"), ("aspect ratio", facts.aspect_ratio, "-"),
                  ("engines", facts.engines, "-")]
         if facts.thrust_per_engine is not None:
-            rows.append(("sea-level static thrust per engine", facts.thrust_per_engine / 1000.0, "kN"))
+            rows.append((f"sea-level static thrust per engine, {d.rating}", facts.thrust_per_engine / 1000.0, "kN"))
         else:
-            rows.append(("sea-level power per engine", facts.power_per_engine / 1000.0, "kW"))
+            rows.append((f"sea-level static shaft power per engine, {d.rating}", facts.power_per_engine / 1000.0, "kW"))
         for c in facts.cruise:
             rows += [(f"{c.name}: altitude", c.altitude / FT, "ft"), (f"{c.name}: Mach", c.mach, "-"),
                      (f"{c.name}: true airspeed", c.speed / KN, "kn"),
