@@ -17,7 +17,7 @@ from .. import constraints as C
 from .. import weights as Wt
 from ..physics.atmosphere import g0
 from . import tree as M
-from .capability import describe_margin, margin_at, sensitivity_unit
+from .capability import capability_of, margin_at, sensitivity_unit
 from .result import Design, RequirementResult, Result
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
@@ -50,6 +50,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             margins.append(Y / float(np.asarray(b.thrust)) - 1.0)
         if b.wing_loading is not None:
             margins.append(float(np.asarray(b.wing_loading)) / W_S - 1.0)
+        m_ws = margins[-1] if b.wing_loading is not None else None
         # a free speed's floors (min speed factor, buffet) bound the speed, not the design: the
         # requirement drives when its thrust row does (at its best speed the floors are met)
         margin = min(margins) if margins else math.inf
@@ -61,6 +62,12 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         if active:
             drivers.append(rid)
             margin = 0.0
+        # what the fractional margin is a margin of: the wing loading where that row is the tighter
+        m_t = margins[0] if b.thrust is not None else None
+        basis = "P/W" if prob.propeller else "T/W"
+        if m_ws is not None and (m_t is None or m_ws < m_t):
+            basis = "W/S"
+        cap, detail = capability_of(r, tree, spec, W_S, Y, betas[rid], m_TO, basis=basis)
         spec_req = spec.requirement(rid)
         field = M.value_field(r)
         unit_text, scale = sensitivity_unit(spec, rid, field)
@@ -75,8 +82,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             id=rid, kind=r["kind"], active=active, margin=max(margin, 0.0),
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
-            detail=describe_margin(r, tree, spec, W_S, Y, betas[rid], m_TO),
-            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src))
+            detail=detail,
+            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")
     g = m_TO * g0
