@@ -27,6 +27,13 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     """A verified solution -> :class:`Result`: design point, active set, margins in their own
     terms, sensitivities in the user's units, fuel by segment, edges of the search region."""
     spec = spec or prob.spec
+    # the takeoff mass the same at every feasible point: show the smallest engine, then the
+    # smallest wing, exactly (the tie-break's optimum lies a little off it)
+    fixed_mass = prob.objective == "takeoff-mass" and prob.mass_independent(p)
+    if fixed_mass:
+        xc = prob.corner(p, float(x[2] * prob.m_ref))
+        if xc is not None and prob.verify(xc, p):
+            x = xc
     tree = prob.tree_of(p)
     W_S, Y, m_TO = float(x[0] * prob.WS_scale), float(x[1] * prob.Y_scale), float(x[2] * prob.m_ref)
     ac = M.aircraft(tree, m_TO)
@@ -72,6 +79,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         field = M.value_field(r)
         unit_text, scale = sensitivity_unit(spec, rid, field)
         sens = dm.get(rid)
+        if sens is not None and fixed_mass:
+            sens = 0.0          # the mass does not move with any requirement while the set is feasible
         if sens is not None:
             sens = sens * scale
         wf = r.get("weight_fraction")
@@ -112,7 +121,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                     requirements=tuple(out), drivers=tuple(drivers), on_edge=tuple(edges),
                     fuel_breakdown=fuel_rows, other_costs=other, objective=prob.objective,
                     stats=dict(stats),
-                    spec=spec)
+                    spec=spec, mass_independent=fixed_mass)
 
 def mission_drives(prob, x, p, rows, vals) -> bool:
     """Mission fuel sets the wing loading when fewer than two requirement

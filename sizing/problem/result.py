@@ -102,6 +102,17 @@ class Result:
     objective: str = "takeoff-mass"
     stats: dict = field(default_factory=dict)
     spec: object = None
+    mass_independent: bool = False        # the takeoff mass is the same at every feasible point
+
+    @property
+    def mass_notice(self) -> str:
+        """What a reader must know when the takeoff mass does not depend on the design point
+        ('' otherwise)."""
+        if not self.mass_independent:
+            return ""
+        y = "P/W" if self.propeller else "T/W"
+        return (f"takeoff mass does not depend on W/S or {y} here: the point shown is the smallest "
+                "engine, then the smallest wing")
 
     @property
     def feasible(self) -> bool:

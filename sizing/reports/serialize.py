@@ -10,7 +10,9 @@ from ..common.caution import CAUTION
 def as_dict(result) -> dict:
     """The result as one JSON-ready dict (keys documented in docs/file-format.md, output section)."""
     out = {"title": result.title, "status": result.status, "design": None, "drivers": list(result.drivers),
-           "requirements": [], "infeasibility": None, "caution": CAUTION}
+           "requirements": [], "infeasibility": None, "caution": CAUTION,
+           "mass_independent": bool(getattr(result, "mass_independent", False)),
+           "mass_notice": getattr(result, "mass_notice", "") or None}
     d = result.design
     if d is not None:
         des = {"wing_loading_Pa": d.wing_loading}
@@ -35,7 +37,7 @@ def as_dict(result) -> dict:
         reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
         out["drivers"] = []
         out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
-                                "sensitivity": None} for r in reqs]
+                                "sensitivity": None, "capability": None} for r in reqs]
     from ..problem.crosscheck import cross_check
 
     check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess

@@ -159,6 +159,8 @@ def summary(result, path: str = "") -> str:
         if extra > 0.5:
             lines.append(f"  {'reserve and trapped fuel':<28} {'':12}   {extra:,.0f} kg")
         lines.append(f"  {'total':<28} {'':12}   {d.fuel_mass:,.0f} kg")
+    if getattr(result, "mass_notice", ""):
+        lines += ["", f"NOTE: {result.mass_notice}; the requirements that bound it are the drivers below"]
     lines += ["", "Drivers (active requirements) and what each costs"]
     active = [r for r in result.requirements if r.active]
     if not active:
