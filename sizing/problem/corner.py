@@ -10,6 +10,7 @@ functions as the solver and the diagram), each requirement's free speed at its b
 from __future__ import annotations
 
 import math
+import warnings
 
 import numpy as np
 from scipy.optimize import minimize_scalar
@@ -96,8 +97,10 @@ def corner(prob, p, m_TO):
     a, b = W[max(i - 1, 0)], W[min(i + 1, W.size - 1)]
     Y_star = float(Y[i])
     if b > a:
-        res = minimize_scalar(lambda w: float(need(w)[0][0]), bounds=(a, b), method="bounded",
-                              options={"xatol": 1e-10 * b})
+        with np.errstate(all="ignore"), warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)     # an infeasible probe's inf
+            res = minimize_scalar(lambda w: float(need(w)[0][0]), bounds=(a, b), method="bounded",
+                                  options={"xatol": 1e-10 * b})
         if res.success and float(res.fun) < Y_star:
             Y_star = float(res.fun)
     level = Y_star * (1.0 + PLATEAU_RTOL)
