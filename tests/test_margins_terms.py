@@ -316,3 +316,19 @@ def test_the_notice_is_in_every_output(jet, tmp_path):
 def test_a_mass_that_moves_with_the_point_has_no_notice(solved):
     spec, res = solved["trainer-jet.yaml"]
     assert not res.mass_independent and res.mass_notice == ""
+
+
+def test_the_what_if_page_shows_the_notice_and_the_quantity_first(jet, solved):
+    # common practice, no source: the page's margin list reads as the terminal's
+    from types import SimpleNamespace
+
+    from sizing.explore.page import Page
+
+    view = SimpleNamespace(panel=SimpleNamespace(text=""))
+    Page._show_result(view, jet)
+    assert "id='mass-notice'" in view.panel.text and jet.mass_notice in view.panel.text
+    spec, res = solved["trainer-jet.yaml"]
+    Page._show_result(view, res)
+    c = res.requirement("ceiling").capability
+    assert f"{c.margin:+,.0f} ft ({c.percent:+.1f} % of 42,000 ft)" in view.panel.text
+    assert "T/W margin +" in view.panel.text and "mass-notice" not in view.panel.text
