@@ -90,7 +90,9 @@ def fraction_margin(r) -> str:
 def margin_cells(r):
     """(lead, text) of a margin row: the margin in the requirement's quantity (or ACTIVE), then
     the requirement in its own terms with the labelled fractional margin after it."""
-    lead = quantity_margin(r) or fraction_margin(r)
+    lead = quantity_margin(r)
+    if not lead:          # no quantity (a thrust lapse given for the condition only): the fraction leads
+        return fraction_margin(r), r.detail
     return lead, f"{r.detail}; {fraction_margin(r)}"
 
 
