@@ -128,21 +128,22 @@ def test_ceiling_altitude_is_the_root_of_the_master_equation(jet):
     assert c.basis == "T/W"
 
 
-def test_stall_speed_limit_counts_down_from_the_limit():
-    # the design away from the stall limit: a wing-loading ceiling from a slow climb makes the
-    # stall requirement one with room (margin = limit - stall speed, positive)
-    res = solve(validate(data(**{"requirements.0.speed": "140 kn"}), "<stall>"))
-    d, r = res.design, res.requirement("stall")
+def test_stall_speed_limit_counts_down_from_the_limit(solved):
+    # the trainer's approach-stall has room: margin = limit - stall speed, positive
+    spec, res = solved["trainer-jet.yaml"]
+    d, r = res.design, res.requirement("approach-stall")
     rho = atmosphere(0.0)[2]
-    Vs = math.sqrt(2 * d.wing_loading / (rho * 2.0))       # Source: lift equation, L = q S CLmax
+    # Source: lift equation, beta W = q S CLmax: V_s = sqrt(2 beta (W/S) / (rho CLmax)); beta 0.8, CLmax 2.0
+    Vs = math.sqrt(2 * 0.8 * d.wing_loading / (rho * 2.0))
     c = r.capability
+    assert not r.active
     assert c.unit == "kn" and c.airspeed == "TAS" and c.harder == -1
     assert c.value == pytest.approx(Vs / KN, rel=1e-5)
-    if not r.active:
-        assert c.margin == pytest.approx(140.0 - Vs / KN, rel=1e-4) and c.margin > 0
-        # the W/S margin of the same requirement: (V_limit / V_stall)^2 - 1
-        assert r.margin == pytest.approx((140.0 * KN / Vs) ** 2 - 1.0, rel=1e-5)
-        assert c.basis == "W/S"
+    assert c.margin == pytest.approx(100.0 - Vs / KN, rel=1e-4) and c.margin > 0
+    assert c.percent == pytest.approx(100.0 - Vs / KN, rel=1e-4)       # of a 100 kn limit
+    # the W/S margin of the same requirement: (V_limit / V_stall)^2 - 1
+    assert r.margin == pytest.approx((100.0 * KN / Vs) ** 2 - 1.0, rel=1e-5)
+    assert c.basis == "W/S"
 
 
 def test_limits_and_targets_have_the_margin_in_the_met_direction(solved):
