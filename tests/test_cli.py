@@ -49,7 +49,7 @@ def test_json_has_the_design_fields(path):
     ids = [q["id"] for q in obj["requirements"]]
     assert len(ids) == len(set(ids)) and ids
     for q in obj["requirements"]:
-        assert set(q) == {"id", "kind", "active", "margin", "sensitivity"}
+        assert set(q) == {"id", "kind", "active", "margin", "sensitivity", "capability"}
         assert set(q["sensitivity"]) == {"value", "unit"} and q["sensitivity"]["unit"].startswith("kg per ")
         assert q["margin"] >= 0
         assert q["active"] == (q["margin"] == 0)

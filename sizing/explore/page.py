@@ -20,7 +20,7 @@ from functools import partial
 
 from ..common.caution import CAUTION
 from ..common.errors import InputError, SizingError
-from ..reports.summary import cost_line, relaxation_heading, relaxation_text
+from ..reports.summary import cost_line, margin_cells, relaxation_heading, relaxation_text
 from .controls import round_to, shown
 from .engine import Explorer, NeedsConfirmation, Numbers, Session
 from .plot import DiagramView
@@ -293,10 +293,12 @@ class Page:
             costs += "<li>mission fuel (the cruise L/D trade sets the wing loading)</li>"
         other = "".join(f"<li>{_e(w)}: {per:+,.2f} {_e(u)}</li>" for w, per, u in res.other_costs)
         margins = "".join(
-            f"<tr><td>{_e(r.id)}</td><td class='v'>{'ACTIVE' if r.active else f'+{r.margin * 100:,.1f} %'}</td>"
-            f"<td class='o'>{_e(r.detail)}</td></tr>" for r in res.requirements)
+            f"<tr><td>{_e(r.id)}</td><td class='v'>{_e(margin_cells(r)[0])}</td>"
+            f"<td class='o'>{_e(margin_cells(r)[1])}</td></tr>" for r in res.requirements)
         edge = (f"<p><span class='warn badge'>NOTE</span> the optimum lies on the edge of the search region "
                 f"({_e(', '.join(res.on_edge))})</p>" if res.on_edge else "")
+        if getattr(res, "mass_notice", ""):
+            edge += f"<p id='mass-notice'><span class='warn badge'>NOTE</span> {_e(res.mass_notice)}</p>"
         fuel = ""
         if res.fuel_breakdown:
             rows = [(name, f"W1/W0 {f:.4f}", f"{mf:,.0f} kg") for name, f, mf in res.fuel_breakdown]

@@ -120,6 +120,7 @@ class RequirementFile(Strict):
         if self.mission is not None:
             for i, seg in enumerate(self.mission.segments):
                 if seg.kind != "fixed":
+                    _within_speed_limit(seg, ("mission", "segments", i), self.aircraft.speed_limit, "segment")
                     _within_table(self.aircraft.aerodynamics.mach_max, seg, ("mission", "segments", i))
         fuel = self.aircraft.weights.fuel.fraction
         if fuel is None and self.mission is None:
@@ -193,9 +194,11 @@ def _engines_and_forms(r, where, aircraft, prop):
 _FLOWN_AT_SPEED = ("sustained-turn", "max-mach", "climb", "excess-power", "cruise", "instantaneous-turn")
 
 
-def _within_speed_limit(r, where, limit):
-    """A requirement flown at a given speed must not ask for more than the speed limit there."""
-    if limit is None or r.kind not in _FLOWN_AT_SPEED:
+def _within_speed_limit(r, where, limit, what="requirement"):
+    """A requirement (or a mission segment) flown at a given speed must not ask for more than the
+    speed limit there: the error names the speed, the limit that governs there as the file wrote
+    it (MMO, VMO or a true airspeed), and both as Mach numbers at the condition."""
+    if limit is None or (what == "requirement" and r.kind not in _FLOWN_AT_SPEED):
         return
     from types import SimpleNamespace
 
@@ -209,14 +212,23 @@ def _within_speed_limit(r, where, limit):
     raw = {k: (None if getattr(r, k, None) is None else float(getattr(r, k))) for k in ("mach", "speed",
                                                                                         "cas", "eas")}
     V = float(fixed_speed(SimpleNamespace(**raw), air))
-    ac = SimpleNamespace(speed_limit_mach=limit.mach, speed_limit_cas=None if limit.cas is None else limit.cas.si,
-                         speed_limit_speed=None if limit.speed is None else limit.speed.si)
-    top = float(speed_limit(ac, air))
+    tops = []
+    for name, mach, cas, tas, label in (
+            ("mach", limit.mach, None, None, f"mach {limit.mach:g} (MMO)" if limit.mach is not None else ""),
+            ("cas", None, limit.cas, None, f"cas {getattr(limit.cas, 'text', '')} (VMO)"),
+            ("speed", None, None, limit.speed, f"speed {getattr(limit.speed, 'text', '')} (true airspeed)")):
+        if getattr(limit, name) is None:
+            continue
+        ac = SimpleNamespace(speed_limit_mach=mach, speed_limit_cas=None if cas is None else cas.si,
+                             speed_limit_speed=None if tas is None else tas.si)
+        tops.append((float(speed_limit(ac, air)), label))
+    top, label = min(tops)
     if V > top * (1.0 + 1e-9):
         a = float(air.speed_of_sound)
         raise FieldError(where + (key,), f"{key} {getattr(getattr(r, key), 'text', getattr(r, key))} is "
                                          f"M {V / a:.3f} at {r.altitude.text}, above the speed limit there "
-                                         f"(M {top / a:.3f}); lower it, or raise aircraft.speed_limit")
+                                         f"(M {top / a:.3f}, from aircraft.speed_limit {label}); the aircraft "
+                                         f"cannot fly this {what}: lower it, or raise aircraft.speed_limit")
 
 
 def _within_table(mach_max, obj, where):

@@ -264,9 +264,14 @@ def fmt(value_si, unit, scale):
         return f"M {v:.3f}"
     if unit == "%":
         return f"{v:.2f} %"
-    mag = abs(v)
-    digits = 0 if mag >= 100 else (1 if mag >= 10 else 2)
-    return f"{v:,.{digits}f} {unit}"
+    return f"{v:,.{digits_for(v)}f} {unit}"
+
+
+def digits_for(v) -> int:
+    """Decimals of a number in a margin text: none from 100 up, one from 10, two below
+    (a value a rounding error below 100 or 10 counts as 100 or 10)."""
+    mag = round(abs(v), 6)
+    return 0 if mag >= 100 else (1 if mag >= 10 else 2)
 
 
 def field_length(r: dict, ac, W_S, Y, beta):
@@ -288,25 +293,122 @@ def describe_margin(r: dict, tree: dict, spec, W_S, Y, beta, takeoff_mass=None) 
     """The margin of a requirement in its own terms ("takeoff distance 1,234 m over 50 ft vs
     1,500 m allowed", "approach 121 kn CAS vs 125 kn CAS limit"), airspeeds labelled TAS, CAS
     or EAS, and what the requirement assumed where a reviewer would ask (the climb segment's
-    paragraph, the propeller efficiency of a field kind)."""
+    paragraph, the propeller efficiency of a field kind). See :func:`capability_of`."""
+    return capability_of(r, tree, spec, W_S, Y, beta, takeoff_mass)[1]
+
+
+# fields whose value moves the flight condition: a thrust lapse given for the condition does not
+# hold at other values of these
+_CONDITION_FIELDS = ("altitude", "mach", "speed", "cas", "eas")
+_LAPSE_KINDS = ("sustained-turn", "max-mach", "ceiling", "climb", "excess-power", "cruise", "climb-gradient",
+                "takeoff")
+
+
+def capability_of(r: dict, tree: dict, spec, W_S, Y, beta, takeoff_mass=None, basis="T/W"):
+    """(:class:`~sizing.problem.result.Capability`, text): the requirement in its own quantity.
+
+    The capability is the value of the requirement's headline field at which the design just meets
+    it (:func:`capability`), in the unit the file wrote. A ``thrust_lapse`` given for the
+    requirement holds at its own condition only: a ceiling then states the climb rate available at
+    the required altitude (against the ceiling's climb rate), and a speed kind states no capability
+    at other speeds; the text says the lapse was given. A free speed that ends on its stall bound
+    (``min_speed_factor`` x the stall speed), on buffet onset or on the speed limit is named.
+    """
+    from .result import Capability
+
+    beta = float(np.asarray(beta))
     field = M.value_field(r)
+    lapse = r.get("thrust_lapse") if r["kind"] in _LAPSE_KINDS else None
+    rr = r
+    lapse_note = ""
+    no_capability = False
+    if lapse is not None and field in _CONDITION_FIELDS:
+        at = _condition_text(r, spec)
+        if r["kind"] == "ceiling":
+            field = "climb_rate"
+            rr = dict(r, climb_rate=float(M.requirement(r, M.aircraft(tree, takeoff_mass), beta).climb_rate))
+            lapse_note = f"at {at}; thrust lapse {lapse:g} given for this condition"
+        else:
+            no_capability = True
+            lapse_note = f"thrust lapse {lapse:g} given for {at}: no capability at other speeds"
+    elif lapse is not None:
+        lapse_note = f"thrust lapse {lapse:g} given for this condition"
     unit, scale = user_unit(spec, r["id"], field)
+    if field == "climb_rate" and unit == "unit":
+        unit, scale = "ft/min", 0.3048 / 60.0
     unit_shown = unit + airspeed_label(field)
     have, need = _WORDS.get(r["kind"], ("design", "required"))
     have = _FORM_WORDS.get((r["kind"], M.form_of(r)), have)
-    cap = capability(r, tree, float(W_S), float(Y), float(np.asarray(beta)), field, takeoff_mass)
-    req_text = fmt(float(r[field]), unit_shown, scale)
+    if field == "climb_rate" and r["kind"] == "ceiling":
+        have = "climb rate"
+    harder = HARDER.get(field, +1)
+    if isinstance(harder, dict):
+        harder = harder.get(r["kind"], +1)
+    cap = None if no_capability else capability(rr, tree, float(W_S), float(Y), beta, field, takeoff_mass)
+    req_text = fmt(float(rr[field]), unit_shown, scale)
     notes = assumptions(r, tree, takeoff_mass)
+    bound = _speed_bound_note(r, tree, field, cap, W_S, beta, takeoff_mass)
+    extra = [t for t in (lapse_note, bound) if t]
+    tail = f" ({'; '.join(extra)})" if extra else ""
     if cap is None:
-        return f"{req_text} {need}{notes}"
-    note = ""
+        text = f"{req_text} {need}{notes}{tail}"
+    else:
+        text = f"{have} {fmt(cap, unit_shown, scale)}{tail} vs {req_text} {need}{notes}"
+    c = Capability(value=None if cap is None else cap / scale, required=float(rr[field]) / scale,
+                   unit=unit, harder=harder, field=field, airspeed=AIRSPEED.get(field, ""), basis=basis,
+                   note="; ".join(extra), lapse_given=None if lapse is None else float(lapse))
+    return c, text
+
+
+def _condition_text(r, spec):
+    """'42,000 ft' or 'M 0.85 at 25,000 ft': where a requirement is flown, as the file wrote it."""
+    req = spec.requirement(r["id"])
+    alt = getattr(getattr(req, "altitude", None), "text", None) or f"{r.get('altitude', 0.0) / 0.3048:,.0f} ft"
+    key = next((k for k in ("mach", "speed", "cas", "eas") if r.get(k) is not None), None)
+    if key is None:
+        return alt
+    v = getattr(req, key, None)
+    spd = f"M {v:g}" if key == "mach" else f"{getattr(v, 'text', v)}{airspeed_label(key)}"
+    return f"{spd} at {alt}"
+
+
+def _speed_bound_note(r, tree, field, cap, W_S, beta, takeoff_mass=None) -> str:
+    """'at the speed limit' where a speed capability (a max-mach's reachable Mach) ends on the
+    speed limit; for a free speed, 'best speed on its stall bound (1.2 x stall speed)', '... on
+    buffet onset' or '... at the speed limit' where the speed the requirement is flown at, at the
+    design (a ceiling: at the ceiling the text names), ends on one of its bounds; '' otherwise."""
+    ac = M.aircraft(tree, takeoff_mass)
     if field in ("mach", "speed", "cas", "eas") and r["kind"] not in ("stall-speed", "approach-speed"):
-        ac = M.aircraft(tree, takeoff_mass)
+        if cap is None:
+            return ""
         req = M.requirement(dict(r, **{field: cap}), ac, beta)
         air = C.condition(req)
         if float(C.fixed_speed(req, air)) >= 0.999 * float(C.max_free_speed(ac, air)):
-            note = " (at the speed limit)"
-    return f"{have} {fmt(cap, unit_shown, scale)}{note} vs {req_text} {need}{notes}"
+            return "at the speed limit"
+        return ""
+    if field == "altitude" and cap is not None:
+        r = dict(r, altitude=cap)      # a ceiling's speed at the ceiling the text names
+    req = M.requirement(r, ac, beta)
+    if not C.KINDS[r["kind"]].has_free_speed(req):
+        return ""
+    with np.errstate(all="ignore"):
+        thrust, _lim, Vb = C.required_curve(req, ac, np.array([float(W_S)]), rtol=MARGIN_RTOL)
+        if Vb is None or not np.isfinite(Vb[0]):
+            return ""
+        V = float(Vb[0])
+        lo, hi = (float(np.asarray(v).ravel()[0]) for v in C.free_speed_range(req, ac, float(W_S)))
+        stall = float(np.asarray(C.min_free_speed(req, ac, float(W_S))))
+    a = float(C.condition(req).speed_of_sound)
+    k = float(r.get("min_speed_factor", C.DEFAULT_MIN_SPEED_FACTOR))
+    speed = f"best speed M {V / a:.3f}, {V / 0.514444:,.0f} kn TAS"
+    tol = 1e-4
+    if V >= hi * (1 - tol):
+        return f"{speed}: at the speed limit"
+    if V <= lo * (1 + tol):
+        if lo <= stall * (1 + tol):
+            return f"{speed}: on its stall bound, {k:g} x the stall speed"
+        return f"{speed}: on buffet onset"
+    return ""
 
 
 def assumptions(r: dict, tree: dict, takeoff_mass=None) -> str:

@@ -385,6 +385,20 @@ class Problem:
         :func:`sizing.problem.package.package`)."""
         return package(self, x, lam_g, p, stats, sensitivities, spec)
 
+    def mass_independent(self, p) -> bool:
+        """Whether the closed takeoff mass is the same at every design point (fixed empty and fuel
+        fractions): see :func:`sizing.problem.corner.mass_independent`."""
+        from .corner import mass_independent
+
+        return mass_independent(self, p)
+
+    def corner(self, p, m_TO):
+        """The smallest engine, then the smallest wing, at takeoff mass ``m_TO`` [kg], as a scaled
+        decision vector (None when none is found): see :func:`sizing.problem.corner.corner`."""
+        from .corner import corner
+
+        return corner(self, p, m_TO)
+
     def mission_drives(self, x, p, rows, vals) -> bool:
         """Whether mission fuel, not two requirements, sets the wing loading (see
         :func:`sizing.problem.package.mission_drives`)."""

@@ -18,7 +18,7 @@ from .. import weights as Wt
 from ..physics.atmosphere import g0
 from ..physics.propulsion import dry_to_rated, rating_name
 from . import tree as M
-from .capability import describe_margin, margin_at, sensitivity_unit
+from .capability import capability_of, margin_at, sensitivity_unit
 from .result import Design, RequirementResult, Result
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
@@ -28,6 +28,13 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     """A verified solution -> :class:`Result`: design point, active set, margins in their own
     terms, sensitivities in the user's units, fuel by segment, edges of the search region."""
     spec = spec or prob.spec
+    # the takeoff mass the same at every feasible point: show the smallest engine, then the
+    # smallest wing, exactly (the tie-break's optimum lies a little off it)
+    fixed_mass = prob.objective == "takeoff-mass" and prob.mass_independent(p)
+    if fixed_mass:
+        xc = prob.corner(p, float(x[2] * prob.m_ref))
+        if xc is not None and prob.verify(xc, p):
+            x = xc
     tree = prob.tree_of(p)
     W_S, Y, m_TO = float(x[0] * prob.WS_scale), float(x[1] * prob.Y_scale), float(x[2] * prob.m_ref)
     ac = M.aircraft(tree, m_TO)
@@ -51,6 +58,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             margins.append(Y / float(np.asarray(b.thrust)) - 1.0)
         if b.wing_loading is not None:
             margins.append(float(np.asarray(b.wing_loading)) / W_S - 1.0)
+        m_ws = margins[-1] if b.wing_loading is not None else None
         # a free speed's floors (min speed factor, buffet) bound the speed, not the design: the
         # requirement drives when its thrust row does (at its best speed the floors are met)
         margin = min(margins) if margins else math.inf
@@ -62,10 +70,18 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         if active:
             drivers.append(rid)
             margin = 0.0
+        # what the fractional margin is a margin of: the wing loading where that row is the tighter
+        m_t = margins[0] if b.thrust is not None else None
+        basis = "P/W" if prob.propeller else "T/W"
+        if m_ws is not None and (m_t is None or m_ws < m_t):
+            basis = "W/S"
+        cap, detail = capability_of(r, tree, spec, W_S, Y, betas[rid], m_TO, basis=basis)
         spec_req = spec.requirement(rid)
         field = M.value_field(r)
         unit_text, scale = sensitivity_unit(spec, rid, field)
         sens = dm.get(rid)
+        if sens is not None and fixed_mass:
+            sens = 0.0          # the mass does not move with any requirement while the set is feasible
         if sens is not None:
             sens = sens * scale
         wf = r.get("weight_fraction")
@@ -76,8 +92,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             id=rid, kind=r["kind"], active=active, margin=max(margin, 0.0),
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
-            detail=describe_margin(r, tree, spec, W_S, Y, betas[rid], m_TO),
-            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src))
+            detail=detail,
+            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")
     g = m_TO * g0
@@ -107,7 +123,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                     requirements=tuple(out), drivers=tuple(drivers), on_edge=tuple(edges),
                     fuel_breakdown=fuel_rows, other_costs=other, objective=prob.objective,
                     stats=dict(stats),
-                    spec=spec)
+                    spec=spec, mass_independent=fixed_mass)
 
 def rating_fields(ac, thrust):
     """Design fields of the engine rating: engine count, the rating's name and, with an

@@ -10,6 +10,44 @@ from dataclasses import dataclass, field
 
 
 @dataclass(frozen=True)
+class Capability:
+    """A requirement's margin in its own quantity: what the design can do (``value``) against
+    what the file asks (``required``), both in the unit the file wrote (``unit``: ft, Mach, kn,
+    g, m, ft/min, %; ``airspeed`` TAS, CAS or EAS for speeds).
+
+    ``harder`` is +1 where a larger value is harder (a ceiling, a load factor) and -1 for limits
+    (a stall speed limit, a field length allowed): the margin is value - required for the first
+    and required - value for the second, positive when the requirement is met with room to spare.
+    ``basis`` names the fractional margin beside it (``T/W``, ``P/W`` or ``W/S``).
+    """
+
+    value: float | None           # the design's capability [unit]; None where none was found
+    required: float               # the requirement's value [unit]
+    unit: str
+    harder: int = +1
+    field: str = ""               # the requirement's field the quantity is
+    airspeed: str = ""            # TAS, CAS, EAS for speeds
+    basis: str = "T/W"            # what the fractional margin is a margin of
+    note: str = ""                # where the capability was taken (a given thrust lapse), a bound
+    lapse_given: float | None = None   # thrust_lapse given for the requirement's condition
+
+    @property
+    def margin(self) -> float | None:
+        """The margin in the requirement's quantity [unit], positive when met with room."""
+        if self.value is None:
+            return None
+        return self.harder * (self.value - self.required)
+
+    @property
+    def percent(self) -> float | None:
+        """The margin as a percentage of the requirement's value [%] (None at a zero value)."""
+        m = self.margin
+        if m is None or self.required == 0:
+            return None
+        return 100.0 * m / abs(self.required)
+
+
+@dataclass(frozen=True)
 class RequirementResult:
     id: str
     kind: str
@@ -22,6 +60,7 @@ class RequirementResult:
     speed: float | None = None    # free speed chosen by the optimizer [m/s]
     beta: float = 1.0
     beta_source: str = "default 1.0"
+    capability: Capability | None = None   # the margin in the requirement's own quantity
 
 
 @dataclass(frozen=True)
@@ -83,6 +122,17 @@ class Result:
     objective: str = "takeoff-mass"
     stats: dict = field(default_factory=dict)
     spec: object = None
+    mass_independent: bool = False        # the takeoff mass is the same at every feasible point
+
+    @property
+    def mass_notice(self) -> str:
+        """What a reader must know when the takeoff mass does not depend on the design point
+        ('' otherwise)."""
+        if not self.mass_independent:
+            return ""
+        y = "P/W" if self.propeller else "T/W"
+        return (f"takeoff mass does not depend on W/S or {y} here: the point shown is the smallest "
+                "engine, then the smallest wing")
 
     @property
     def feasible(self) -> bool:

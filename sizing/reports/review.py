@@ -20,7 +20,7 @@ from ..common.caution import CAUTION
 from ..common.conversions import FT, FT2, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
 from ..physics.propulsion import axis_label, reference_label
-from .summary import cost_line, md_cell, md_escape, relaxation_heading
+from .summary import cost_line, fraction_margin, md_cell, md_escape, quantity_margin, relaxation_heading
 
 REPORT_DPI = 110
 
@@ -204,6 +204,9 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
     if res.feasible:
         blocks += [("h", 2, "Design point"),
                    ("table", ["quantity", "value", "also", "also"], _design_rows(res, facts))]
+        if getattr(res, "mass_notice", ""):
+            blocks.append(("p", f"Note: {res.mass_notice}; the requirements that bound that point are "
+                                "the drivers, each with a margin of exactly zero."))
         if facts is not None and facts.cruise:
             blocks.append(("table", ["cruise condition", "altitude", "speed", "W/W_TO", "CL", "L/D"],
                            [[c.name, f"{c.altitude / FT:,.0f} ft", f"M {c.mach:.3f} ({c.speed / KN:,.0f} kn TAS)",
@@ -242,13 +245,18 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
                          "sensitivities (first order)."),
                    ("table", ["requirement", "kind", "cost", "d m_TO / d value"], drows or
                     [["none", "", "the design sits where the weight model alone puts it", ""]])]
-        mrows = [[r.id, r.kind, r.value_text, "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %",
-                  r.detail, f"{r.beta:.3f} ({r.beta_source})"] for r in res.requirements]
+        mrows = [[r.id, r.kind, r.value_text, quantity_margin(r) or "not computed", r.detail,
+                  fraction_margin(r), f"{r.beta:.3f} ({r.beta_source})"] for r in res.requirements]
         blocks += [("h", 2, "Margins"),
-                   ("p", "Margin: T/W designed over T/W required minus 1 for thrust requirements, W/S "
-                         "limit over W/S designed minus 1 for wing-loading limits."),
-                   ("table", ["requirement", "kind", "value", "margin", "in its own terms", "weight fraction"],
-                    mrows)]
+                   ("p", "Margin first in the requirement's own quantity: what the design can do less what "
+                         "is required (for a limit, such as a stall speed limit or a field length allowed, "
+                         "the limit less what the design needs), with its percentage of the requirement. "
+                         "Beside it the margin of the design point: T/W (P/W) designed over T/W (P/W) "
+                         "required minus 1 for thrust requirements, W/S limit over W/S designed minus 1 for "
+                         "wing-loading limits. A thrust lapse given in the file holds at the requirement's "
+                         "own condition only: such a requirement is stated there."),
+                   ("table", ["requirement", "kind", "value", "margin in its own quantity", "in its own terms",
+                              "design-point margin", "weight fraction"], mrows)]
     else:
         inf = res.infeasibility
         blocks += [("h", 2, "No feasible design"),

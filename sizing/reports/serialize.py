@@ -11,7 +11,9 @@ from ..physics.propulsion import reference_label
 def as_dict(result) -> dict:
     """The result as one JSON-ready dict (keys documented in docs/file-format.md, output section)."""
     out = {"title": result.title, "status": result.status, "design": None, "drivers": list(result.drivers),
-           "requirements": [], "infeasibility": None, "caution": CAUTION}
+           "requirements": [], "infeasibility": None, "caution": CAUTION,
+           "mass_independent": bool(getattr(result, "mass_independent", False)),
+           "mass_notice": getattr(result, "mass_notice", "") or None}
     d = result.design
     if d is not None:
         des = {"wing_loading_Pa": d.wing_loading}
@@ -39,13 +41,14 @@ def as_dict(result) -> dict:
         out["requirements"] = [{
             "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
             "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
+            "capability": capability_dict(r),
         } for r in result.requirements]
     if d is None:
         # infeasible: every requirement listed, none active, no margin or cost (there is no design)
         reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
         out["drivers"] = []
         out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
-                                "sensitivity": None} for r in reqs]
+                                "sensitivity": None, "capability": None} for r in reqs]
     from ..problem.crosscheck import cross_check
 
     check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess
@@ -59,6 +62,25 @@ def as_dict(result) -> dict:
                                 "relaxation_text": {k: v.get("text", "") for k, v in rel.items()},
                                 "together": any(v.get("together", False) for v in rel.values()),
                                 "explanation": inf.explanation}
+    return out
+
+
+def capability_dict(r):
+    """A requirement's margin in its own quantity: ``value`` (what the design can do) and
+    ``required`` in the unit the file wrote (``unit``; ``airspeed`` TAS, CAS or EAS for speeds),
+    ``margin`` in that unit (value - required, or required - value for a limit) and as ``percent``
+    of the requirement, ``basis`` of the fractional ``margin`` beside it, ``note``; None without one."""
+    c = getattr(r, "capability", None)
+    if c is None:
+        return None
+    out = {"value": c.value, "required": c.required, "unit": c.unit, "margin": c.margin,
+           "percent": c.percent, "basis": c.basis, "note": c.note}
+    if r.active:
+        out["margin"], out["percent"] = 0.0, 0.0
+    if c.airspeed:
+        out["airspeed"] = c.airspeed
+    if c.lapse_given is not None:
+        out["thrust_lapse_given"] = c.lapse_given
     return out
 
 

@@ -49,6 +49,54 @@ def cost_line(r) -> str:
     return f"{c[0]} on {r.id}: +{c[1]:,.1f} kg"
 
 
+def quantity_margin(r) -> str:
+    """A requirement's margin in its own quantity with its share of the requirement,
+    '+7,246 ft (+17.3 % of 42,000 ft)', 'ACTIVE' for a driver, '' where there is none (no
+    capability found, or a thrust lapse given for the condition only)."""
+    if r.active:
+        return "ACTIVE"
+    c = getattr(r, "capability", None)
+    if c is None or c.margin is None:
+        return ""
+    from ..problem.capability import digits_for, fmt
+
+    unit = c.unit + (f" {c.airspeed}" if c.airspeed else "")
+    m = c.margin
+    if c.unit == "Mach":
+        text = f"{m:+.3f} Mach"
+    elif c.unit == "g":
+        text = f"{m:+.2f} g"
+    elif c.unit == "%":
+        text = f"{m:+.2f} % points"
+    else:
+        digits = digits_for(min(abs(c.required), abs(c.value)))    # as the numbers beside it
+        text = f"{m:+,.{digits}f} {unit}"
+    if c.percent is not None:
+        text += f" ({c.percent:+,.1f} % of {fmt(c.required, unit, 1.0)})"
+    return text
+
+
+def fraction_margin(r) -> str:
+    """'T/W margin +32.6 %' (or P/W, W/S): the fractional margin of the design point, labelled;
+    exactly '0 %' for a driver."""
+    c = getattr(r, "capability", None)
+    basis = c.basis if c is not None else "fractional"
+    if r.active:
+        return f"{basis} margin 0 %"
+    if r.margin is None or not math.isfinite(r.margin):
+        return f"{basis} margin not bounded"
+    return f"{basis} margin +{r.margin * 100:,.1f} %"
+
+
+def margin_cells(r):
+    """(lead, text) of a margin row: the margin in the requirement's quantity (or ACTIVE), then
+    the requirement in its own terms with the labelled fractional margin after it."""
+    lead = quantity_margin(r)
+    if not lead:          # no quantity (a thrust lapse given for the condition only): the fraction leads
+        return fraction_margin(r), r.detail
+    return lead, f"{r.detail}; {fraction_margin(r)}"
+
+
 def relaxation_heading(inf) -> str:
     """What the list of relaxations means: each alone, or all together."""
     if any(rel.get("together") for rel in inf.relaxations.values()):
@@ -131,6 +179,8 @@ def summary(result, path: str = "") -> str:
         if extra > 0.5:
             lines.append(f"  {'reserve and trapped fuel':<28} {'':12}   {extra:,.0f} kg")
         lines.append(f"  {'total':<28} {'':12}   {d.fuel_mass:,.0f} kg")
+    if getattr(result, "mass_notice", ""):
+        lines += ["", f"NOTE: {result.mass_notice}; the requirements that bound it are the drivers below"]
     lines += ["", "Drivers (active requirements) and what each costs"]
     active = [r for r in result.requirements if r.active]
     if not active:
@@ -145,9 +195,9 @@ def summary(result, path: str = "") -> str:
             lines.append(f"  {what:<38} {per:+,.2f} {unit}")
     lines += ["", "Margins"]
     for r in result.requirements:
-        tag = "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %"
+        lead, text = margin_cells(r)
         beta = f"   [weight fraction {r.beta:.3f}, {r.beta_source}]"
-        lines.append(f"  {r.id:<18} {tag:>10}   {r.detail}{beta}")
+        lines.append(f"  {r.id:<18} {lead:<36} {text}{beta}")
     st = result.stats
     lines += ["", f"solver: {st.get('return_status')}, {st.get('iterations')} iterations, "
                   f"{st.get('solve_time_s', 0) * 1000:.0f} ms", "", CAUTION]

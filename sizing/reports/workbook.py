@@ -108,6 +108,8 @@ def _design_frame(spec, res, facts):
                      (f"{c.name}: weight fraction W/W_TO", c.weight_fraction, "-"),
                      (f"{c.name}: lift coefficient CL", c.CL, "-"), (f"{c.name}: L/D", c.lift_to_drag, "-")]
     rows += [("drivers", ", ".join(res.drivers) or "none", "text"), ("objective", res.objective, "text")]
+    if getattr(res, "mass_notice", ""):
+        rows.append(("note", res.mass_notice, "text"))
     return pd.DataFrame(rows, columns=["quantity [text]", "value [unit in the next column]", "unit [text]"])
 
 
@@ -134,9 +136,19 @@ def _requirements_frame(res):
 
     rows = []
     for r in res.requirements:
+        cap = getattr(r, "capability", None)
         rows.append({"id [text]": r.id, "kind [text]": r.kind, "value as written [text]": r.value_text,
                      "active [yes/no]": "yes" if r.active else "no",
+                     "margin in its own quantity [see unit]": (0.0 if r.active else cap.margin)
+                     if cap is not None else None,
+                     "margin in its own quantity [% of required]": (0.0 if r.active else cap.percent)
+                     if cap is not None else None,
+                     "capability [see unit]": cap.value if cap is not None else None,
+                     "required [see unit]": cap.required if cap is not None else None,
+                     "unit [text]": (cap.unit + (f" {cap.airspeed}" if cap.airspeed else "")) if cap is not None
+                     else None,
                      "margin [%]": 0.0 if r.active else (100.0 * r.margin if math.isfinite(r.margin) else None),
+                     "margin [%] is of [text]": cap.basis if cap is not None else None,
                      "in its own terms [text]": r.detail,
                      "cost of one step [text]": cost_line(r) if r.active else "not active",
                      "sensitivity d m_TO / d value [see unit]": r.sensitivity,
