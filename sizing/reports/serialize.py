@@ -4,6 +4,8 @@ from __future__ import annotations
 import json
 import math
 
+import numpy as np
+
 from ..common.caution import CAUTION
 
 
@@ -52,6 +54,14 @@ def as_dict(result) -> dict:
 
 
 def _finite(o):
+    """A JSON-ready copy: numpy scalars and arrays as Python numbers and lists, NaN and inf as
+    None (JSON has neither), tuples as lists."""
+    if isinstance(o, np.ndarray):
+        return [_finite(v) for v in o.tolist()]
+    if isinstance(o, np.generic):
+        o = o.item()                 # np.bool_ -> bool, np.float64 -> float, np.int64 -> int
+    if isinstance(o, bool):
+        return o
     if isinstance(o, float):
         return o if math.isfinite(o) else None
     if isinstance(o, dict):
