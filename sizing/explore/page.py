@@ -20,7 +20,7 @@ from functools import partial
 
 from ..common.caution import CAUTION
 from ..common.errors import InputError, SizingError
-from ..reports.summary import cost_line, relaxation_heading, relaxation_text
+from ..reports.summary import cost_line, relaxation_heading, relaxation_text, step_reaches
 from .controls import round_to, shown
 from .engine import Explorer, NeedsConfirmation, Numbers, Session
 from .plot import DiagramView
@@ -289,6 +289,8 @@ class Page:
             return
         active = [r for r in res.requirements if r.active]
         costs = "".join(f"<li>{_e(cost_line(r))}</li>" for r in active) or "<li>none</li>"
+        costs += "".join(f"<li>{_e(cost_line(r))} (not active now)</li>" for r in res.requirements
+                         if step_reaches(r))
         if "mission fuel" in res.drivers:
             costs += "<li>mission fuel (the cruise L/D trade sets the wing loading)</li>"
         other = "".join(f"<li>{_e(w)}: {per:+,.2f} {_e(u)}</li>" for w, per, u in res.other_costs)

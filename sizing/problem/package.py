@@ -19,6 +19,7 @@ from ..physics.atmosphere import g0
 from . import tree as M
 from .capability import describe_margin, margin_at, sensitivity_unit
 from .result import Design, RequirementResult, Result
+from .steps import denoised, step_costs
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
 
@@ -37,8 +38,9 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     if sensitivities:
         dm = sensitivities_of(prob, x, lam_g, p)
         other = other_costs(prob, x, lam_g, p, tree)
+        steps = step_costs(prob, x, lam_g, p, spec, dm)      # re-solved steps (not in study runs)
     else:
-        dm, other = {}, ()
+        dm, other, steps = {}, (), {}
     out = []
     drivers = []
     for rid in prob.req_ids:
@@ -66,7 +68,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         unit_text, scale = sensitivity_unit(spec, rid, field)
         sens = dm.get(rid)
         if sens is not None:
-            sens = sens * scale
+            sens = denoised(sens * scale, steps.get(rid))
         wf = r.get("weight_fraction")
         src = f"after {wf['after']}" if isinstance(wf, dict) else ("given" if wf is not None else "default 1.0")
         if wf is None and M.at_landing_weight(r) and ac.max_landing_fraction is not None:
@@ -76,7 +78,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
             detail=describe_margin(r, tree, spec, W_S, Y, betas[rid], m_TO),
-            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src))
+            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src,
+            step_cost=steps.get(rid)))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")
     g = m_TO * g0

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+NONLINEAR_REL = 0.10      # a step's linear estimate off by more than this fraction: "non-linear"
+
 
 @dataclass(frozen=True)
 class RequirementResult:
@@ -22,6 +24,26 @@ class RequirementResult:
     speed: float | None = None    # free speed chosen by the optimizer [m/s]
     beta: float = 1.0
     beta_source: str = "default 1.0"
+    step_cost: StepCost | None = None   # a real step of the value, re-solved (sizing.problem.steps)
+
+
+@dataclass(frozen=True)
+class StepCost:
+    """The takeoff-mass cost of one readable step of a requirement's value, re-solved."""
+
+    step: float                   # signed, in the user's unit (the harder direction)
+    unit: str                     # the user's unit of the value ("g", "kn", "ft", "Mach", ...)
+    value: float                  # the value before the step [user unit]
+    delta_mass: float | None      # re-solved change of m_TO [kg]; None when the step is infeasible
+    linear_estimate: float | None  # slope x step [kg]
+    feasible: bool = True         # a design exists after the step
+
+    @property
+    def nonlinear(self) -> bool:
+        """The slope's linear estimate is off by more than 10 % of the re-solved change."""
+        if self.delta_mass is None or self.linear_estimate is None:
+            return False
+        return abs(self.delta_mass - self.linear_estimate) > NONLINEAR_REL * abs(self.delta_mass)
 
 
 @dataclass(frozen=True)

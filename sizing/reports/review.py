@@ -19,7 +19,7 @@ from pathlib import Path
 from ..common.caution import CAUTION
 from ..common.conversions import FT, FT2, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
-from .summary import cost_line, md_cell, md_escape, relaxation_heading
+from .summary import cost_line, md_cell, md_escape, relaxation_heading, step_reaches
 
 REPORT_DPI = 110
 
@@ -228,12 +228,18 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
         drows = [[r.id, r.kind, cost_line(r),
                   f"{_n(r.sensitivity)} {r.sensitivity_unit}" if r.sensitivity is not None else "n/a"]
                  for r in active]
+        drows += [[r.id, f"{r.kind} (not active now)", cost_line(r),
+                   f"{_n(r.sensitivity)} {r.sensitivity_unit}" if r.sensitivity is not None else "n/a"]
+                  for r in res.requirements if step_reaches(r)]
         if "mission fuel" in res.drivers:
             drows.append(["mission fuel", "weight closure", "the cruise L/D trade sets the wing loading", ""])
         blocks += [("h", 2, "Drivers and what each costs"),
                    ("p", "Active requirements (met with equality at the optimum) and the change in takeoff "
-                         "mass for one step of each in the harder direction, from the optimizer's "
-                         "sensitivities (first order)."),
+                         "mass for a step of each in the harder direction (about 3 % of its value, rounded "
+                         "to a readable unit), found by solving again with the stepped value; beside it the "
+                         "first-order estimate from the optimizer's sensitivity (slope x step). NON-LINEAR: "
+                         "the estimate is off by more than 10 %. Requirements not active now appear when "
+                         "their step costs mass. Changes below solver noise (1e-5 of takeoff mass) are 0."),
                    ("table", ["requirement", "kind", "cost", "d m_TO / d value"], drows or
                     [["none", "", "the design sits where the weight model alone puts it", ""]])]
         mrows = [[r.id, r.kind, r.value_text, "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %",

@@ -30,6 +30,7 @@ def as_dict(result) -> dict:
         out["requirements"] = [{
             "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
             "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
+            "cost_of_step": cost_of_step(r),
         } for r in result.requirements]
     if d is None:
         # infeasible: every requirement listed, none active, no margin or cost (there is no design)
@@ -51,6 +52,17 @@ def as_dict(result) -> dict:
                                 "together": any(v.get("together", False) for v in rel.values()),
                                 "explanation": inf.explanation}
     return out
+
+
+def cost_of_step(r):
+    """A requirement's re-solved step as JSON (None when the result has none): ``step`` signed in
+    ``unit`` (the harder direction), ``delta_mass_kg`` re-solved (None when the step leaves no
+    feasible design, then ``feasible`` is false), ``linear_estimate_kg`` slope x step."""
+    sc = getattr(r, "step_cost", None)
+    if sc is None:
+        return None
+    return {"step": sc.step, "unit": sc.unit, "delta_mass_kg": sc.delta_mass,
+            "linear_estimate_kg": sc.linear_estimate, "feasible": sc.feasible, "nonlinear": sc.nonlinear}
 
 
 def _finite(o):

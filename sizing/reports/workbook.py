@@ -124,7 +124,7 @@ def _weights_frame(res, facts):
 def _requirements_frame(res):
     import pandas as pd
 
-    from .summary import cost_line
+    from .summary import cost_line, step_reaches
 
     rows = []
     for r in res.requirements:
@@ -132,11 +132,24 @@ def _requirements_frame(res):
                      "active [yes/no]": "yes" if r.active else "no",
                      "margin [%]": 0.0 if r.active else (100.0 * r.margin if math.isfinite(r.margin) else None),
                      "in its own terms [text]": r.detail,
-                     "cost of one step [text]": cost_line(r) if r.active else "not active",
+                     "cost of one step [text]": cost_line(r) if r.active or step_reaches(r) else "not active",
+                     **_step_columns(r),
                      "sensitivity d m_TO / d value [see unit]": r.sensitivity,
                      "sensitivity unit [text]": r.sensitivity_unit,
                      "weight fraction W/W_TO [-]": r.beta, "weight fraction from [text]": r.beta_source})
     return pd.DataFrame(rows)
+
+
+def _step_columns(r) -> dict:
+    """The re-solved step of a requirement (sizing.problem.steps) as workbook columns."""
+    sc = r.step_cost
+    return {"step [see step unit]": None if sc is None else sc.step,
+            "step unit [text]": "" if sc is None else sc.unit,
+            "step: re-solved change of takeoff mass [kg]": None if sc is None else sc.delta_mass,
+            "step: slope x step [kg]": None if sc is None else sc.linear_estimate,
+            "step: feasible after it [yes/no]": "" if sc is None else ("yes" if sc.feasible else "no"),
+            "step: non-linear (estimate off > 10 %) [yes/no]": "" if sc is None else
+            ("yes" if sc.nonlinear else "no")}
 
 
 def _curves_frame(spec, res):
