@@ -18,6 +18,7 @@ from .. import weights as Wt
 from ..physics.atmosphere import g0
 from . import tree as M
 from .capability import describe_margin, margin_at, sensitivity_unit
+from .health import closure_health
 from .result import Design, RequirementResult, Result
 from .steps import denoised, step_costs
 
@@ -108,7 +109,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                     requirements=tuple(out), drivers=tuple(drivers), on_edge=tuple(edges),
                     fuel_breakdown=fuel_rows, other_costs=other, objective=prob.objective,
                     stats=dict(stats),
-                    spec=spec)
+                    spec=spec, closure=closure_health(prob, tree, W_S, Y, m_TO, other))
 
 def mission_drives(prob, x, p, rows, vals) -> bool:
     """Mission fuel sets the wing loading when fewer than two requirement

@@ -62,6 +62,16 @@ class Design:
 
 
 @dataclass(frozen=True)
+class ClosureHealth:
+    """How near the weight closure is to runaway (see :mod:`sizing.problem.health`)."""
+
+    growth_factor: float          # d m_TO / d m_payload [kg per kg]
+    runaway_margin: float         # 1 - d(m_empty + m_fuel)/d m_TO at the design point [-]
+    warning: str = ""             # empty when the closure is healthy
+    growth_source: str = ""       # how the growth factor was obtained
+
+
+@dataclass(frozen=True)
 class Infeasibility:
     conflicts: tuple
     relaxations: dict            # id -> {value, unit, text, field, from, shown, si, together}
@@ -85,6 +95,7 @@ class Result:
     objective: str = "takeoff-mass"
     stats: dict = field(default_factory=dict)
     spec: object = None
+    closure: ClosureHealth | None = None  # growth factor and runaway margin (sizing.problem.health)
 
     @property
     def feasible(self) -> bool:

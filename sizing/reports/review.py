@@ -242,6 +242,20 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
                          "their step costs mass. Changes below solver noise (1e-5 of takeoff mass) are 0."),
                    ("table", ["requirement", "kind", "cost", "d m_TO / d value"], drows or
                     [["none", "", "the design sits where the weight model alone puts it", ""]])]
+        ch = res.closure
+        if ch is not None:
+            blocks += [("h", 2, "Closure health"),
+                       ("p", "How strongly takeoff mass answers to payload, and how far the weight closure "
+                             "m_TO = (m_crew + m_payload) / (1 - f_empty - f_fuel) is from diverging. The runaway "
+                             "margin is 1 - d(m_empty + m_fuel)/d m_TO at the design point (1 - f_empty - f_fuel "
+                             "for fixed fractions): the closure diverges when the empty-mass or fuel fraction "
+                             "grows by this much. A warning is given above a growth factor of 10 kg per kg or "
+                             "below a runaway margin of 0.10." + (f" {ch.warning}" if ch.warning else "")),
+                       ("table", ["quantity", "value", "how"],
+                        [["payload growth factor d m_TO / d m_payload", f"{ch.growth_factor:,.2f} kg per kg",
+                          ch.growth_source],
+                         ["runaway margin 1 - d(m_empty + m_fuel) / d m_TO", f"{ch.runaway_margin:.3f}",
+                          "central difference at the design point"]])]
         mrows = [[r.id, r.kind, r.value_text, "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %",
                   r.detail, f"{r.beta:.3f} ({r.beta_source})"] for r in res.requirements]
         blocks += [("h", 2, "Margins"),

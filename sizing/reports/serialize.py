@@ -42,6 +42,10 @@ def as_dict(result) -> dict:
 
     check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess
     out["class_check"] = check.as_dict() if check is not None else None
+    ch = getattr(result, "closure", None)
+    out["closure"] = None if ch is None else {
+        "growth_factor": ch.growth_factor, "growth_factor_unit": "kg per kg", "growth_factor_source": ch.growth_source,
+        "runaway_margin": ch.runaway_margin, "warning": ch.warning or None}
     if result.infeasibility is not None:
         inf = result.infeasibility
         rel = inf.relaxations

@@ -79,6 +79,18 @@ def step_reaches(r) -> bool:
             and (sc.delta_mass is None or sc.delta_mass != 0.0))
 
 
+def closure_lines(ch) -> list:
+    """The 'Closure health' block of the terminal summary (empty list when there is none)."""
+    if ch is None:
+        return []
+    out = ["", "Closure health",
+           f"  {'payload growth factor dm_TO/dm_payload':<44} {ch.growth_factor:,.2f} kg per kg ({ch.growth_source})",
+           f"  {'runaway margin 1 - d(m_empty+m_fuel)/dm_TO':<44} {ch.runaway_margin:.3f} (the closure diverges at 0)"]
+    if ch.warning:
+        out.append(f"  {ch.warning}")
+    return out
+
+
 def relaxation_heading(inf) -> str:
     """What the list of relaxations means: each alone, or all together."""
     if any(rel.get("together") for rel in inf.relaxations.values()):
@@ -161,6 +173,7 @@ def summary(result, path: str = "") -> str:
         lines += ["", "Other costs"]
         for what, per, unit in result.other_costs:
             lines.append(f"  {what:<38} {per:+,.2f} {unit}")
+    lines += closure_lines(result.closure)
     lines += ["", "Margins"]
     for r in result.requirements:
         tag = "ACTIVE" if r.active else f"+{r.margin * 100:,.1f} %"
