@@ -10,7 +10,7 @@ import pytest
 from sizing.inputs.spec import load
 from sizing.problem import Problem
 from sizing.problem.tree import spec_tree, structure_key
-from sizing.reports.serialize import _finite, as_dict, to_json
+from sizing.reports.serialize import _finite, to_json
 
 from .cliutil import run as run_cli
 from .randomsets import generate
