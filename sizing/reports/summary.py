@@ -157,8 +157,8 @@ def summary(result, path: str = "") -> str:
             lines.append(f"  {'reserve and trapped fuel':<28} {'':12}   {extra:,.0f} kg")
         lines.append(f"  {'total':<28} {'':12}   {d.fuel_mass:,.0f} kg")
     lines += ["", "Drivers (active requirements) and what each costs",
-              "  (a step of about 3 % of the value in the harder direction, re-solved; beside it the"
-              " optimizer's slope x step; NON-LINEAR: they differ by more than 10 %)"]
+              "  (a step of about 3 % of the value, the harder way, solved again; beside it the optimizer's",
+              "   slope x step; NON-LINEAR: the slope's estimate is off by more than 10 %)"]
     active = [r for r in result.requirements if r.active]
     if not active:
         lines.append("  none: the design sits where the weight model alone puts it")
