@@ -3,7 +3,9 @@
 Lives here: ``tree`` (the SI tree, its parameters, the physics views),
 ``nlp`` (the built CasADi/IPOPT problem and its public interface), ``start``
 (the starting-point scan), ``package`` (active set, margins, sensitivities
--> ``Result``), ``capability`` (each requirement in its own terms),
+-> ``Result``), ``steps`` (what a real step of each requirement costs, re-solved),
+``health`` (growth factor and runaway margin of the weight closure), ``capability``
+(each requirement in its own terms),
 ``diagnose`` (infeasible sets: conflicts and relaxations), ``continuation``
 (a study's Newton step from a solved neighbour) and ``result`` (the frozen
 result types).
