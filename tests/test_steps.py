@@ -104,3 +104,20 @@ def test_json_cost_of_step(trainer):
         assert set(c) >= {"step", "unit", "delta_mass_kg", "linear_estimate_kg"}, q["id"]
     turn = next(q for q in js["requirements"] if q["id"] == "turn-4g")["cost_of_step"]
     assert turn["unit"] == "g" and turn["step"] == pytest.approx(0.1) and turn["nonlinear"] is True
+
+
+def test_workbook_and_study_chart_show_the_re_solved_step(trainer):
+    from matplotlib.figure import Figure
+
+    from sizing.reports.workbook import _requirements_frame
+    from sizing.studies.figures import costs
+
+    frame = _requirements_frame(trainer).set_index("id [text]")
+    sc = trainer.requirement("turn-4g").step_cost
+    assert frame.loc["turn-4g", "step: re-solved change of takeoff mass [kg]"] == sc.delta_mass
+    assert frame.loc["turn-4g", "step: non-linear (estimate off > 10 %) [yes/no]"] == "yes"
+    ax = Figure().add_subplot()
+    costs(trainer.requirements, ax=ax)
+    assert "re-solved" in ax.get_title() and "sensitivity" not in ax.get_title()
+    texts = [t.get_text() for t in ax.texts]
+    assert f"{sc.delta_mass:+,.1f} kg (non-linear)" in texts

@@ -102,7 +102,18 @@ def _design_frame(spec, res, facts):
                      (f"{c.name}: weight fraction W/W_TO", c.weight_fraction, "-"),
                      (f"{c.name}: lift coefficient CL", c.CL, "-"), (f"{c.name}: L/D", c.lift_to_drag, "-")]
     rows += [("drivers", ", ".join(res.drivers) or "none", "text"), ("objective", res.objective, "text")]
+    rows += _closure_rows(res.closure)
     return pd.DataFrame(rows, columns=["quantity [text]", "value [unit in the next column]", "unit [text]"])
+
+
+def _closure_rows(ch) -> list:
+    """Closure health (sizing.problem.health) as design-sheet rows."""
+    if ch is None:
+        return []
+    return [("payload growth factor dm_TO/dm_payload", ch.growth_factor, "kg per kg"),
+            ("runaway margin 1 - d(m_empty+m_fuel)/dm_TO (diverges at 0)", ch.runaway_margin, "-"),
+            ("closure warning", ch.warning or "none (growth factor <= 10 kg per kg, runaway margin >= 0.10)",
+             "text")]
 
 
 def _weights_frame(res, facts):
