@@ -73,3 +73,23 @@ def test_healthy_trainer_no_warning():
     assert ch.growth_factor < 10 and ch.runaway_margin > 0.1 and ch.warning == ""
     assert "Closure health" in summary(res) and "WARNING: near weight runaway" not in summary(res)
     assert json.loads(to_json(res))["closure"]["warning"] is None
+
+
+def test_explore_page_shows_closure_and_warning(tmp_path):
+    """The what-if page's result panel: closure health, and the warning near runaway."""
+    from bokeh.document import Document
+
+    from sizing.explore.engine import Explorer
+    from sizing.explore.page import Page
+
+    text = TRAINER.replace(COMPONENTS, "    empty: {model: fraction, value: 0.55}\n    fuel:\n      fraction: 0.37\n")
+    path = tmp_path / "near-runaway.yaml"
+    path.write_text(text)
+    ex = Explorer(path)
+    page = Page(ex, Document())
+    page._show_result(ex.base)
+    html = page.panel.text
+    assert "id='closure'" in html and "12.50 kg per kg" in html
+    assert "id='closure-warning'" in html and "near weight runaway" in html
+    page._show_result(Problem(load(ROOT / "requirements" / "trainer-jet.yaml")).solve())
+    assert "id='closure'" in page.panel.text and "closure-warning" not in page.panel.text
