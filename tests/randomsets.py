@@ -1,10 +1,14 @@
 """Deterministic random requirement files for robustness tests (numpy default_rng, fixed seed).
 
-Each file is one of the example files with the values of its requirements scaled by random
-factors (0.8 to 1.25; a speed or Mach at most 1.05, to stay under the speed limit and inside
-the polar's Mach table), the payload by 0.5 to 2, and in most files one extra requirement
-added (a stall speed, a sustained turn, a dash, a ceiling; a climb for propeller aircraft):
-the mix the JSON crash of issue 13 came from. About one set in eight is infeasible.
+Each file is one of the example files with the value of each requirement moved by a random
+factor, up to 3 % the harder way or 15 % the easier way (a speed or Mach at most 5 % higher,
+to stay under the speed limit and inside the polar's Mach table), the payload scaled by 0.8 to
+1 (lighter: an example near weight runaway stays closable), and in most files one extra
+requirement added (a stall speed, a sustained turn, a dash, a ceiling; a climb for propeller
+aircraft): the mix the JSON crash of issue 13 came from. One
+file in twenty also asks for a 30 kn stall speed, which no design meets (the wing it needs
+weighs more than the closure allows), so the set holds infeasible files whatever the examples'
+tuning; each costs a diagnosis, about a second.
 """
 from __future__ import annotations
 
@@ -27,6 +31,7 @@ EXTRA_JET = ({"id": "x-stall", "kind": "stall-speed", "speed": "110 kn", "config
 EXTRA_PROP = ({"id": "x-stall", "kind": "stall-speed", "cas": "70 kn", "config": "landing"},
               {"id": "x-climb", "kind": "climb", "climb_rate": "900 ft/min", "speed": "100 kn",
                "config": "takeoff"})
+IMPOSSIBLE = {"id": "x-impossible", "kind": "stall-speed", "cas": "30 kn", "config": "landing"}
 _NUM = re.compile(r"^\s*([-+]?[0-9.]+(?:[eE][-+]?\d+)?)(\s*.*)$")
 
 
@@ -42,6 +47,15 @@ def _scale(v, f):
     return v
 
 
+def _harder(kind, key) -> int:
+    """+1 when a larger value is harder to meet, -1 when a smaller one is (the tool's own rule,
+    sizing.problem.capability.HARDER)."""
+    from sizing.problem.capability import HARDER
+
+    h = HARDER.get(key, +1)
+    return h.get(kind, +1) if isinstance(h, dict) else h
+
+
 def generate(n=200, seed=13):
     """[(name, yaml text)] of n requirement files (same seed, same files)."""
     rng = np.random.default_rng(seed)
@@ -55,14 +69,21 @@ def generate(n=200, seed=13):
         k = int(rng.integers(len(extra) + 1))                  # k == len(extra): none added
         if k < len(extra):
             data["requirements"].append(dict(extra[k]))
+        if i % 20 == 7:          # one file in twenty cannot be met: a 30 kn stall needs a wing so large
+            data["requirements"].append(dict(IMPOSSIBLE))     # its mass alone closes no design
         for r in data["requirements"]:
             for key in SCALED:
                 if key in r:
-                    # a Mach or a speed stays inside the polar's table and under the speed limit
-                    hi = 1.05 if key in ("mach", "speed", "cas", "eas") else 1.25
-                    r[key] = _scale(r[key], float(rng.uniform(0.8, hi)))
+                    # up to 3 % harder (a speed or Mach at most 5 % higher: under the speed limit
+                    # and inside the polar's Mach table) or up to 15 % easier
+                    harder = _harder(r["kind"], key)
+                    u = float(rng.uniform(-0.15, 0.03))
+                    f = 1.0 + harder * u
+                    if key in ("mach", "speed", "cas", "eas"):
+                        f = min(f, 1.05)
+                    r[key] = _scale(r[key], f)
         w = data["aircraft"]["weights"]
-        w["payload"] = _scale(w["payload"], float(rng.uniform(0.5, 2.0)))
+        w["payload"] = _scale(w["payload"], float(rng.uniform(0.8, 1.0)))
         if "max_payload" in w:
             w["max_payload"] = _scale(w["max_payload"], 3.0)
         data["title"] = f"random set from {stem}"          # the title is part of the structure
