@@ -37,7 +37,7 @@ def as_dict(result) -> dict:
         reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
         out["drivers"] = []
         out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
-                                "sensitivity": None} for r in reqs]
+                                "sensitivity": None, "cost_of_step": None} for r in reqs]
     from ..problem.crosscheck import cross_check
 
     check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess
