@@ -49,11 +49,13 @@ def test_json_has_the_design_fields(path):
     ids = [q["id"] for q in obj["requirements"]]
     assert len(ids) == len(set(ids)) and ids
     for q in obj["requirements"]:
-        assert set(q) == {"id", "kind", "active", "margin", "sensitivity", "capability"}
+        assert {"id", "kind", "active", "margin", "sensitivity", "capability", "cost_of_step"} <= set(q)
+        assert {"step", "unit", "delta_mass_kg", "linear_estimate_kg"} <= set(q["cost_of_step"])
         assert set(q["sensitivity"]) == {"value", "unit"} and q["sensitivity"]["unit"].startswith("kg per ")
         assert q["margin"] >= 0
         assert q["active"] == (q["margin"] == 0)
     assert set(obj["drivers"]) - {"mission fuel"} == {q["id"] for q in obj["requirements"] if q["active"]}
+    assert {"growth_factor", "runaway_margin", "warning"} <= set(obj["closure"])
 
 
 def test_weight_statement_closes(solved):

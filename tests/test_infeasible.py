@@ -90,9 +90,10 @@ def test_closure_failure_is_explained_in_words(tmp_path):
     assert out["status"] == "infeasible" and out["design"] is None and out["drivers"] == []
     assert out["requirements"] == [
         {"id": "stall", "kind": "stall-speed", "active": False, "margin": None, "sensitivity": None,
-         "capability": None},
+         "capability": None, "cost_of_step": None},
         {"id": "turn", "kind": "sustained-turn", "active": False, "margin": None, "sensitivity": None,
-         "capability": None}]
+         "capability": None, "cost_of_step": None}]
+    assert out["closure"] is None
     inf = out["infeasibility"]
     assert inf["conflicts"] == [] and inf["relaxations"] == {}
     assert "empty 0.52 + fuel 0.49 of takeoff mass leave nothing for crew and payload" in inf["explanation"]

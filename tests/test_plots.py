@@ -7,6 +7,7 @@ name their external sources beside them.
 """
 import csv
 import io
+import math
 import os
 import subprocess
 import sys
@@ -14,6 +15,7 @@ import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 import pytest
 
 from sizing import constraints as C
@@ -24,6 +26,7 @@ from sizing.charts import style as PS
 from sizing import weights as Wt
 from sizing.common.errors import InputError
 from sizing.common.caution import CAUTION
+from sizing.physics.propulsion import is_propeller
 from sizing.problem import solve
 from sizing.inputs.spec import load, validate
 
@@ -167,25 +170,37 @@ def _independent_curve(spec, rid, W_S, mass=None):
 def _check_csv(spec, text, every=10, mass=None):
     if mass is None and M.needs_takeoff_mass(M.spec_tree(spec)):
         mass = solve(spec).design.takeoff_mass
-    rows = list(csv.reader(io.StringIO(text)))
+    lines = text.splitlines()
+    assert lines[0].startswith("# ") and f"# {CAUTION}" in lines      # the caution as a comment line
+    rows = list(csv.reader(io.StringIO("\n".join(ln for ln in lines if not ln.startswith("#")))))
     head, body = rows[0], rows[1:]
     assert head[0] == "wing_loading_Pa"
+    y = "power_to_weight_W_per_N" if is_propeller(spec.model.aircraft.propulsion.type) else "thrust_to_weight"
     col = {name: i for i, name in enumerate(head)}
-    assert set(col) - {"wing_loading_Pa"} >= {r.id for r in spec.requirements}
+    assert all(":" in n for n in head[1:])      # every requirement column names its quantity and unit
+    assert {n.split(":")[0] for n in head[1:]} == {r.id for r in spec.requirements}
+    assert all(v.lower() not in ("inf", "-inf", "nan") for r in body for v in r)   # empty where none exists
     picked = body[::every]
     W_S = [float(r[0]) for r in picked]
+
+    def num(v):
+        return float(v) if v != "" else math.inf
+
     for req in spec.requirements:
         thrust, limit = _independent_curve(spec, req.id, W_S, mass)
         if thrust[0] is not None:
-            got = [float(r[col[req.id]]) for r in picked]
+            got = [num(r[col[f"{req.id}:{y}"]]) for r in picked]
             np.testing.assert_allclose(got, thrust, rtol=1e-9)
-            if limit[0] is not None:
-                got = [float(r[col[f"{req.id}:wing_loading_limit_Pa"]]) for r in picked]
-                np.testing.assert_allclose(got, limit, rtol=1e-9)
+        else:
+            assert f"{req.id}:{y}" not in col
+        if limit[0] is not None:
+            got = [num(r[col[f"{req.id}:wing_loading_limit_Pa"]]) for r in picked]
+            np.testing.assert_allclose(got, limit, rtol=1e-9)
         else:
             assert f"{req.id}:wing_loading_limit_Pa" not in col
-            got = [float(r[col[req.id]]) for r in picked]
-            np.testing.assert_allclose(got, limit, rtol=1e-9)
+    # pandas reads it as written, the comment lines skipped (empty cells as NaN)
+    frame = pd.read_csv(io.StringIO(text), comment="#")
+    assert list(frame.columns) == head and len(frame) == len(body)
 
 
 @pytest.mark.parametrize("name", [p.name for p in EXAMPLES])

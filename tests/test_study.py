@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from sizing.common.caution import CAUTION
 from sizing.common.errors import InputError
 from sizing.problem import solve
 from sizing.inputs.spec import load, validate
@@ -145,10 +146,14 @@ def test_example_studies_run_reduced_through_the_console_script(path, tmp_path):
     r = run_cli("study", path, "-o", out, "--limit", "6", cwd=ROOT)
     assert r.returncode == 0, r.stderr
     assert "CAUTION" in r.stdout and f"wrote {out / 'results.csv'}" in r.stdout
-    t = pd.read_csv(out / "results.csv")
+    text = (out / "results.csv").read_text()
+    assert text.startswith("# ") and f"# {CAUTION}\n" in text            # the caution as a comment line
+    assert "inf" not in text.split(CAUTION)[-1].lower().replace("infeasible", "")   # empty where none exists
+    t = pd.read_csv(out / "results.csv", comment="#")
     assert len(t) == 6
     study = load_study(path)
-    assert list(t.columns[:len(study.varied)]) == study.columns
+    # each varied column names its unit as the study writes it ([-] for a plain number)
+    assert list(t.columns[:len(study.varied)]) == [f"{v.path} [{v.unit or '-'}]" for v in study.varied]
     assert set(t["status"]) <= {"optimal", "infeasible", "failed"}
     pngs = sorted(p.name for p in out.glob("*.png"))
     assert "costs.png" in pngs

@@ -364,26 +364,36 @@ def reference_points(spec) -> tuple:
 
 
 def curves_csv(data: DiagramData) -> str:
-    """The sampled curves as CSV text (SI: wing_loading_Pa, one column per requirement).
+    """The sampled curves as CSV text, SI, every column named with its quantity and unit.
 
-    A thrust requirement's column holds the required T_SL/W_TO (P_SL/W_TO
-    [W/N] for propeller aircraft); a wing-loading limit's column holds the
-    limit [Pa]; a requirement with both has a second column
-    ``<id>:wing_loading_limit_Pa``. ``inf``: no flight speed meets it.
+    First lines: ``#`` comments (title, how to read the columns, the caution). Columns:
+    ``wing_loading_Pa``; for each requirement with a thrust bound ``<id>:thrust_to_weight``
+    (the required T_SL/W_TO [-]) or, for propeller aircraft, ``<id>:power_to_weight_W_per_N``
+    (P_SL/W_TO [W/N]); for each with a wing-loading limit ``<id>:wing_loading_limit_Pa``.
+    An empty cell: no flight speed meets the requirement at that wing loading (no number
+    exists). Read with ``pandas.read_csv(path, comment="#")``.
     """
     import csv
 
+    from ..common.caution import CAUTION
+
+    y_name = "power_to_weight_W_per_N" if data.propeller else "thrust_to_weight"
     cols, names = [data.W_S], ["wing_loading_Pa"]
     for c in data.curves:
         if c.thrust is not None:
             cols.append(c.thrust)
-            names.append(c.id)
+            names.append(f"{c.id}:{y_name}")
         if c.limit is not None:
             cols.append(c.limit)
-            names.append(c.id if c.thrust is None else f"{c.id}:wing_loading_limit_Pa")
+            names.append(f"{c.id}:wing_loading_limit_Pa")
     buf = io.StringIO()
+    buf.write(f"# {data.title}: constraint curves sampled over the wing loading W_TO/S [Pa]\n"
+              f"# <id>:{y_name}: {'P_SL/W_TO [W/N]' if data.propeller else 'T_SL/W_TO [-]'} the requirement "
+              "needs at that wing loading; <id>:wing_loading_limit_Pa: the highest W_TO/S it allows [Pa]; "
+              "empty: no flight speed meets it there\n"
+              f"# {CAUTION}\n")
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(names)
     for row in zip(*cols):
-        w.writerow([repr(float(v)) for v in row])
+        w.writerow([repr(float(v)) if np.isfinite(v) else "" for v in row])
     return buf.getvalue()

@@ -324,6 +324,10 @@ def write_envelope(env: Envelope, output, data=None, **kwargs) -> list:
     the paths written."""
     written = [atomic_write(output, render(env, check_output(output), **kwargs), "wb")]
     if data:
-        head = f"# {env.title}: envelope at weight fraction {env.weight_fraction:g}. {CAUTION}\n"
-        written.append(atomic_write(data, head + env.to_frame().to_csv(index=False, lineterminator="\n"), "w"))
+        from .files import csv_text
+
+        text = csv_text(env.to_frame(), f"{env.title}: envelope at weight fraction {env.weight_fraction:g}; "
+                        "altitude_m, altitude_ft, mach in their units; value and required in the row's unit "
+                        "column; empty: no number", float_format=None)
+        written.append(atomic_write(data, text, "w"))
     return [str(p) for p in written]

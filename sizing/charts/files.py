@@ -27,10 +27,14 @@ def check_output(path, field="-o/--output"):
     return suffix[1:]
 
 
-def csv_text(frame, *comments) -> str:
-    """A DataFrame as CSV text after ``#`` comment lines (the caution always the last one)."""
+def csv_text(frame, *comments, float_format="%.6g") -> str:
+    """A DataFrame as CSV text after ``#`` comment lines (the caution always the last one); an
+    empty cell where no number exists (NaN, and inf: never the text ``inf`` or ``nan``)."""
+    import numpy as np
+
     head = "".join(f"# {c}\n" for c in comments + (CAUTION,) if c)
-    return head + frame.to_csv(index=False, lineterminator="\n", float_format="%.6g")
+    frame = frame.replace([np.inf, -np.inf], np.nan)
+    return head + frame.to_csv(index=False, lineterminator="\n", float_format=float_format)
 
 
 def write_chart(figure_bytes, output, frame=None, data=None, comments=()) -> list:

@@ -20,7 +20,7 @@ from functools import partial
 
 from ..common.caution import CAUTION
 from ..common.errors import InputError, SizingError
-from ..reports.summary import cost_line, margin_cells, relaxation_heading, relaxation_text
+from ..reports.summary import cost_line, margin_cells, relaxation_heading, relaxation_text, step_reaches
 from .controls import round_to, shown
 from .engine import Explorer, NeedsConfirmation, Numbers, Session
 from .plot import DiagramView
@@ -289,6 +289,8 @@ class Page:
             return
         active = [r for r in res.requirements if r.active]
         costs = "".join(f"<li>{_e(cost_line(r))}</li>" for r in active) or "<li>none</li>"
+        costs += "".join(f"<li>{_e(cost_line(r))} (not active now)</li>" for r in res.requirements
+                         if step_reaches(r))
         if "mission fuel" in res.drivers:
             costs += "<li>mission fuel (the cruise L/D trade sets the wing loading)</li>"
         other = "".join(f"<li>{_e(w)}: {per:+,.2f} {_e(u)}</li>" for w, per, u in res.other_costs)
@@ -309,8 +311,15 @@ class Page:
             fuel = ("<h3>Mission fuel by segment</h3><table class='nums'>" + "".join(
                 f"<tr><td>{_e(a)}</td><td class='o'>{_e(b)}</td><td class='v'>{_e(c)}</td></tr>" for a, b, c in rows)
                 + "</table>")
+        ch = res.closure
+        closure = "" if ch is None else (
+            "<h3>Closure health</h3><ul id='closure'>"
+            f"<li>payload growth factor dm_TO/dm_payload: {ch.growth_factor:,.2f} kg per kg</li>"
+            f"<li>runaway margin 1 - d(m_empty+m_fuel)/dm_TO: {ch.runaway_margin:.3f} (diverges at 0)</li></ul>"
+            + (f"<p id='closure-warning'><span class='warn badge'>WARNING</span> {_e(ch.warning)}</p>"
+               if ch.warning else ""))
         self.panel.text = (f"{edge}<h3>Drivers and what each costs</h3><ul id='costs'>{costs}</ul>"
-                           + (f"<h3>Other costs</h3><ul>{other}</ul>" if other else "")
+                           + (f"<h3>Other costs</h3><ul>{other}</ul>" if other else "") + closure
                            + f"<h3>Margins</h3><table class='nums' id='margins'>{margins}</table>{fuel}")
 
     # ------------------------------------------------------------------- save

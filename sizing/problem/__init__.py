@@ -3,8 +3,10 @@
 Lives here: ``tree`` (the SI tree, its parameters, the physics views),
 ``nlp`` (the built CasADi/IPOPT problem and its public interface), ``start``
 (the starting-point scan), ``package`` (active set, margins, sensitivities
--> ``Result``), ``capability`` (each requirement in its own terms),
-``corner`` (the point shown when the takeoff mass does not depend on it),
+-> ``Result``), ``steps`` (what a real step of each requirement costs, re-solved),
+``health`` (growth factor and runaway margin of the weight closure), ``capability``
+(each requirement in its own terms), ``corner`` (the point shown when the takeoff mass
+does not depend on it),
 ``diagnose`` (infeasible sets: conflicts and relaxations), ``continuation``
 (a study's Newton step from a solved neighbour) and ``result`` (the frozen
 result types).

@@ -19,7 +19,9 @@ from ..physics.atmosphere import g0
 from ..physics.propulsion import dry_to_rated, rating_name
 from . import tree as M
 from .capability import capability_of, margin_at, sensitivity_unit
+from .health import closure_health
 from .result import Design, RequirementResult, Result
+from .steps import denoised, step_costs
 
 ACTIVE_TOL = 1e-5     # a requirement within this fractional margin is active
 
@@ -45,8 +47,9 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     if sensitivities:
         dm = sensitivities_of(prob, x, lam_g, p)
         other = other_costs(prob, x, lam_g, p, tree)
+        steps = step_costs(prob, x, lam_g, p, spec, dm)      # re-solved steps (not in study runs)
     else:
-        dm, other = {}, ()
+        dm, other, steps = {}, (), {}
     out = []
     drivers = []
     for rid in prob.req_ids:
@@ -83,7 +86,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         if sens is not None and fixed_mass:
             sens = 0.0          # the mass does not move with any requirement while the set is feasible
         if sens is not None:
-            sens = sens * scale
+            sens = denoised(sens * scale, steps.get(rid))
         wf = r.get("weight_fraction")
         src = f"after {wf['after']}" if isinstance(wf, dict) else ("given" if wf is not None else "default 1.0")
         if wf is None and M.at_landing_weight(r) and ac.max_landing_fraction is not None:
@@ -93,7 +96,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
             detail=detail,
-            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap))
+            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap,
+            step_cost=steps.get(rid)))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")
     g = m_TO * g0
@@ -123,7 +127,8 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
                     requirements=tuple(out), drivers=tuple(drivers), on_edge=tuple(edges),
                     fuel_breakdown=fuel_rows, other_costs=other, objective=prob.objective,
                     stats=dict(stats),
-                    spec=spec, mass_independent=fixed_mass)
+                    spec=spec, mass_independent=fixed_mass,
+                    closure=closure_health(prob, tree, W_S, Y, m_TO, other))
 
 def rating_fields(ac, thrust):
     """Design fields of the engine rating: engine count, the rating's name and, with an

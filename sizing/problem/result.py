@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+NONLINEAR_REL = 0.10      # a step's linear estimate off by more than this fraction: "non-linear"
+
 
 @dataclass(frozen=True)
 class Capability:
@@ -61,6 +63,26 @@ class RequirementResult:
     beta: float = 1.0
     beta_source: str = "default 1.0"
     capability: Capability | None = None   # the margin in the requirement's own quantity
+    step_cost: StepCost | None = None   # a real step of the value, re-solved (sizing.problem.steps)
+
+
+@dataclass(frozen=True)
+class StepCost:
+    """The takeoff-mass cost of one readable step of a requirement's value, re-solved."""
+
+    step: float                   # signed, in the user's unit (the harder direction)
+    unit: str                     # the user's unit of the value ("g", "kn", "ft", "Mach", ...)
+    value: float                  # the value before the step [user unit]
+    delta_mass: float | None      # re-solved change of m_TO [kg]; None when the step is infeasible
+    linear_estimate: float | None  # slope x step [kg]
+    feasible: bool = True         # a design exists after the step
+
+    @property
+    def nonlinear(self) -> bool:
+        """The slope's linear estimate is off by more than 10 % of the re-solved change."""
+        if self.delta_mass is None or self.linear_estimate is None:
+            return False
+        return abs(self.delta_mass - self.linear_estimate) > NONLINEAR_REL * abs(self.delta_mass)
 
 
 @dataclass(frozen=True)
@@ -99,6 +121,16 @@ class Design:
 
 
 @dataclass(frozen=True)
+class ClosureHealth:
+    """How near the weight closure is to runaway (see :mod:`sizing.problem.health`)."""
+
+    growth_factor: float          # d m_TO / d m_payload [kg per kg]
+    runaway_margin: float         # 1 - d(m_empty + m_fuel)/d m_TO at the design point [-]
+    warning: str = ""             # empty when the closure is healthy
+    growth_source: str = ""       # how the growth factor was obtained
+
+
+@dataclass(frozen=True)
 class Infeasibility:
     conflicts: tuple
     relaxations: dict            # id -> {value, unit, text, field, from, shown, si, together}
@@ -123,6 +155,7 @@ class Result:
     stats: dict = field(default_factory=dict)
     spec: object = None
     mass_independent: bool = False        # the takeoff mass is the same at every feasible point
+    closure: ClosureHealth | None = None  # growth factor and runaway margin (sizing.problem.health)
 
     @property
     def mass_notice(self) -> str:

@@ -20,7 +20,15 @@ from ..common.caution import CAUTION
 from ..common.conversions import FT, FT2, HP, KN, LB, LBF_FT2, N_PER_LBF
 from ..physics.atmosphere import g0
 from ..physics.propulsion import axis_label, reference_label
-from .summary import cost_line, fraction_margin, md_cell, md_escape, quantity_margin, relaxation_heading
+from .summary import (
+    cost_line,
+    fraction_margin,
+    md_cell,
+    md_escape,
+    quantity_margin,
+    relaxation_heading,
+    step_reaches,
+)
 
 REPORT_DPI = 110
 
@@ -237,14 +245,34 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
         drows = [[r.id, r.kind, cost_line(r),
                   f"{_n(r.sensitivity)} {r.sensitivity_unit}" if r.sensitivity is not None else "n/a"]
                  for r in active]
+        drows += [[r.id, f"{r.kind} (not active now)", cost_line(r),
+                   f"{_n(r.sensitivity)} {r.sensitivity_unit}" if r.sensitivity is not None else "n/a"]
+                  for r in res.requirements if step_reaches(r)]
         if "mission fuel" in res.drivers:
             drows.append(["mission fuel", "weight closure", "the cruise L/D trade sets the wing loading", ""])
         blocks += [("h", 2, "Drivers and what each costs"),
                    ("p", "Active requirements (met with equality at the optimum) and the change in takeoff "
-                         "mass for one step of each in the harder direction, from the optimizer's "
-                         "sensitivities (first order)."),
+                         "mass for a step of each in the harder direction (about 3 % of its value, rounded "
+                         "to a readable unit), found by solving again with the stepped value; beside it the "
+                         "first-order estimate from the optimizer's sensitivity (slope x step). NON-LINEAR: "
+                         "the estimate is off by more than 10 %. Requirements not active now appear when "
+                         "their step costs mass. Changes below solver noise (1e-5 of takeoff mass) are 0."),
                    ("table", ["requirement", "kind", "cost", "d m_TO / d value"], drows or
                     [["none", "", "the design sits where the weight model alone puts it", ""]])]
+        ch = res.closure
+        if ch is not None:
+            blocks += [("h", 2, "Closure health"),
+                       ("p", "How strongly takeoff mass answers to payload, and how far the weight closure "
+                             "m_TO = (m_crew + m_payload) / (1 - f_empty - f_fuel) is from diverging. The runaway "
+                             "margin is 1 - d(m_empty + m_fuel)/d m_TO at the design point (1 - f_empty - f_fuel "
+                             "for fixed fractions): the closure diverges when the empty-mass or fuel fraction "
+                             "grows by this much. A warning is given above a growth factor of 10 kg per kg or "
+                             "below a runaway margin of 0.10." + (f" {ch.warning}" if ch.warning else "")),
+                       ("table", ["quantity", "value", "how"],
+                        [["payload growth factor d m_TO / d m_payload", f"{ch.growth_factor:,.2f} kg per kg",
+                          ch.growth_source],
+                         ["runaway margin 1 - d(m_empty + m_fuel) / d m_TO", f"{ch.runaway_margin:.3f}",
+                          "central difference at the design point"]])]
         mrows = [[r.id, r.kind, r.value_text, quantity_margin(r) or "not computed", r.detail,
                   fraction_margin(r), f"{r.beta:.3f} ({r.beta_source})"] for r in res.requirements]
         blocks += [("h", 2, "Margins"),

@@ -4,6 +4,8 @@ from __future__ import annotations
 import json
 import math
 
+import numpy as np
+
 from ..common.caution import CAUTION
 from ..physics.propulsion import reference_label
 
@@ -42,17 +44,22 @@ def as_dict(result) -> dict:
             "id": r.id, "kind": r.kind, "active": r.active, "margin": r.margin,
             "sensitivity": {"value": r.sensitivity, "unit": r.sensitivity_unit},
             "capability": capability_dict(r),
+            "cost_of_step": cost_of_step(r),
         } for r in result.requirements]
     if d is None:
         # infeasible: every requirement listed, none active, no margin or cost (there is no design)
         reqs = result.requirements or getattr(result.spec, "requirements", ()) or ()
         out["drivers"] = []
         out["requirements"] = [{"id": r.id, "kind": r.kind, "active": False, "margin": None,
-                                "sensitivity": None, "capability": None} for r in reqs]
+                                "sensitivity": None, "capability": None, "cost_of_step": None} for r in reqs]
     from ..problem.crosscheck import cross_check
 
     check = cross_check(result)          # only where the file declares aircraft.class: no class, no guess
     out["class_check"] = check.as_dict() if check is not None else None
+    ch = getattr(result, "closure", None)
+    out["closure"] = None if ch is None else {
+        "growth_factor": ch.growth_factor, "growth_factor_unit": "kg per kg", "growth_factor_source": ch.growth_source,
+        "runaway_margin": ch.runaway_margin, "warning": ch.warning or None}
     if result.infeasibility is not None:
         inf = result.infeasibility
         rel = inf.relaxations
@@ -84,7 +91,26 @@ def capability_dict(r):
     return out
 
 
+def cost_of_step(r):
+    """A requirement's re-solved step as JSON (None when the result has none): ``step`` signed in
+    ``unit`` (the harder direction), ``delta_mass_kg`` re-solved (None when the step leaves no
+    feasible design, then ``feasible`` is false), ``linear_estimate_kg`` slope x step."""
+    sc = getattr(r, "step_cost", None)
+    if sc is None:
+        return None
+    return {"step": sc.step, "unit": sc.unit, "delta_mass_kg": sc.delta_mass,
+            "linear_estimate_kg": sc.linear_estimate, "feasible": sc.feasible, "nonlinear": sc.nonlinear}
+
+
 def _finite(o):
+    """A JSON-ready copy: numpy scalars and arrays as Python numbers and lists, NaN and inf as
+    None (JSON has neither), tuples as lists."""
+    if isinstance(o, np.ndarray):
+        return [_finite(v) for v in o.tolist()]
+    if isinstance(o, np.generic):
+        o = o.item()                 # np.bool_ -> bool, np.float64 -> float, np.int64 -> int
+    if isinstance(o, bool):
+        return o
     if isinstance(o, float):
         return o if math.isfinite(o) else None
     if isinstance(o, dict):

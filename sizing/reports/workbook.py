@@ -110,7 +110,18 @@ def _design_frame(spec, res, facts):
     rows += [("drivers", ", ".join(res.drivers) or "none", "text"), ("objective", res.objective, "text")]
     if getattr(res, "mass_notice", ""):
         rows.append(("note", res.mass_notice, "text"))
+    rows += _closure_rows(res.closure)
     return pd.DataFrame(rows, columns=["quantity [text]", "value [unit in the next column]", "unit [text]"])
+
+
+def _closure_rows(ch) -> list:
+    """Closure health (sizing.problem.health) as design-sheet rows."""
+    if ch is None:
+        return []
+    return [("payload growth factor dm_TO/dm_payload", ch.growth_factor, "kg per kg"),
+            ("runaway margin 1 - d(m_empty+m_fuel)/dm_TO (diverges at 0)", ch.runaway_margin, "-"),
+            ("closure warning", ch.warning or "none (growth factor <= 10 kg per kg, runaway margin >= 0.10)",
+             "text")]
 
 
 def _weights_frame(res, facts):
@@ -132,7 +143,7 @@ def _weights_frame(res, facts):
 def _requirements_frame(res):
     import pandas as pd
 
-    from .summary import cost_line
+    from .summary import cost_line, step_reaches
 
     rows = []
     for r in res.requirements:
@@ -150,11 +161,24 @@ def _requirements_frame(res):
                      "margin [%]": 0.0 if r.active else (100.0 * r.margin if math.isfinite(r.margin) else None),
                      "margin [%] is of [text]": cap.basis if cap is not None else None,
                      "in its own terms [text]": r.detail,
-                     "cost of one step [text]": cost_line(r) if r.active else "not active",
+                     "cost of one step [text]": cost_line(r) if r.active or step_reaches(r) else "not active",
+                     **_step_columns(r),
                      "sensitivity d m_TO / d value [see unit]": r.sensitivity,
                      "sensitivity unit [text]": r.sensitivity_unit,
                      "weight fraction W/W_TO [-]": r.beta, "weight fraction from [text]": r.beta_source})
     return pd.DataFrame(rows)
+
+
+def _step_columns(r) -> dict:
+    """The re-solved step of a requirement (sizing.problem.steps) as workbook columns."""
+    sc = r.step_cost
+    return {"step [see step unit]": None if sc is None else sc.step,
+            "step unit [text]": "" if sc is None else sc.unit,
+            "step: re-solved change of takeoff mass [kg]": None if sc is None else sc.delta_mass,
+            "step: slope x step [kg]": None if sc is None else sc.linear_estimate,
+            "step: feasible after it [yes/no]": "" if sc is None else ("yes" if sc.feasible else "no"),
+            "step: non-linear (estimate off > 10 %) [yes/no]": "" if sc is None else
+            ("yes" if sc.nonlinear else "no")}
 
 
 def _curves_frame(spec, res):

@@ -442,33 +442,38 @@ def influence(rows, names=None, ax=None):
 
 
 def costs(requirements, styles=None, ax=None):
-    """Bar chart of each requirement's cost at the base point (one step of its value, kg), in the
-    requirement's colour; requirements that are not active show their margin."""
-    from ..reports.summary import cost_step
+    """Bar chart of what a step of each requirement costs at the base point (kg): the step
+    re-solved where the result has it (:mod:`sizing.problem.steps`), in the requirement's
+    colour; requirements that are not active and whose step costs nothing show their margin."""
+    from ..reports.summary import cost_step, step_reaches
 
     ax = ax if ax is not None else figure().add_subplot()
     styles = styles or {}
-    labels, values, colours = [], [], []
+    labels, values, colours, notes = [], [], [], []
     for r in requirements:
         c = cost_step(r)
-        if r.active and c is not None:
-            labels.append(f"{c[0]} on {r.id}")
-            values.append(c[1])
+        if c is not None and (r.active or step_reaches(r)):
+            labels.append(f"{c[0]} on {r.id}" + ("" if r.active else " (not active now)"))
+            values.append(c[1] if c[1] is not None else 0.0)
+            sc = getattr(r, "step_cost", None)
+            notes.append("no feasible design after this step" if c[1] is None else
+                         f"{c[1]:+,.1f} kg" + (" (non-linear)" if sc is not None and sc.nonlinear else ""))
             colours.append(driver_style(styles, r.id).colour if styles else PALETTE[1])
         else:
             labels.append(f"{r.id} (margin {100 * r.margin:.1f} %)" if math.isfinite(r.margin) else r.id)
-            values.append(0.0 if c is None or not r.active else c[1])
+            values.append(0.0)
+            notes.append("not active: 0 kg")
             colours.append("0.6")
     y = np.arange(len(labels))
     bars = ax.barh(y, values, color=colours)
     ax.set_yticks(y, labels, fontsize=FS["tick"])
     ax.invert_yaxis()
-    for yi, v in zip(y, values):
-        ax.annotate(f"{v:+,.1f} kg" if v else "not active: 0 kg", (v, yi), xytext=(3, 0),
-                    textcoords="offset points", va="center", fontsize=FS["label"])
+    for yi, v, note in zip(y, values, notes):
+        ax.annotate(note, (v, yi), xytext=(3, 0), textcoords="offset points", va="center", fontsize=FS["label"])
     ax.margins(x=0.18)
-    ax.set_xlabel("takeoff mass added by one step of the requirement [kg]", fontsize=FS["axis"])
-    ax.set_title("what each requirement costs at the base point (sensitivity)", fontsize=FS["title"] - 1)
+    ax.set_xlabel("takeoff mass added by a step of the requirement (about 3 % of its value) [kg]",
+                  fontsize=FS["axis"])
+    ax.set_title("what a step of each requirement costs at the base point (re-solved)", fontsize=FS["title"] - 1)
     ax.tick_params(axis="x", labelsize=FS["tick"])
     return [bars]
 

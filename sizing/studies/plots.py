@@ -80,7 +80,7 @@ def write_outputs(result, output_dir, folder=None, xlsx=False) -> list:
 
     with (folder or output_folder(output_dir)) as fs:
         stage = fs.staging
-        written = [atomic_write(stage / "results.csv", result.table.to_csv(index=False, float_format="%.10g"))]
+        written = [atomic_write(stage / "results.csv", result.csv_text())]
         st = result.study
         meta = {
             "title": st.title, "study_file": st.file, "base_file": st.base_file, "base_sha256": st.base.sha256,

@@ -395,6 +395,25 @@ class StudyResult:
         t = self.table
         return rank_influence({v.path: t[v.path] for v in self.study.varied}, t["takeoff_mass_kg"], t["status"])
 
+    def csv_text(self) -> str:
+        """results.csv: ``#`` comment lines (title, how to read it, the caution), then one row per
+        point. Every numeric column names its unit: a varied path as ``<path> [<unit as written>]``
+        (``[-]`` for a plain number), the design as ``wing_loading_Pa``, ``thrust_to_weight`` [-] or
+        ``power_to_weight_W_per_N``, ``takeoff_mass_kg``, ``wing_area_m2``; an empty cell where no
+        number exists (an infeasible point has no design). Read with ``pandas.read_csv(path,
+        comment="#")``."""
+        import numpy as np
+
+        from ..common.caution import CAUTION
+
+        t = self.table.rename(columns={v.path: f"{v.path} [{v.unit or '-'}]" for v in self.study.varied})
+        t = t.replace([np.inf, -np.inf], np.nan)
+        head = (f"# {self.study.title}: one row per point; varied values in the unit written in the study "
+                "file; design point SI; empty: no number (an infeasible point has no design); drivers: "
+                "active requirements, conflicting: the requirements in conflict where an infeasible solve "
+                f"ended\n# {CAUTION}\n")
+        return head + t.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+
     def write(self, output_dir) -> list:
         """Write results.csv, study.json and the plots into output_dir; the paths."""
         from .plots import write_outputs

@@ -1,0 +1,95 @@
+"""Closure health (sizing.problem.health): the payload growth factor and the runaway margin,
+against the closed form of the weight closure."""
+import json
+from pathlib import Path
+
+import pytest
+
+from sizing.inputs.spec import load
+from sizing.problem import Problem
+from sizing.reports.review import document, to_markdown
+from sizing.reports.serialize import to_json
+from sizing.reports.summary import summary
+
+ROOT = Path(__file__).resolve().parents[1]
+TRAINER = (ROOT / "requirements" / "trainer-jet.yaml").read_text()
+COMPONENTS = """    empty:
+      model: components
+      wing: 45 kg/m^2
+      propulsion: 0.028 kg/N
+      other: 0.32
+    fuel:
+      fraction: 0.24
+"""
+
+
+def _solve(tmp_path, empty_yaml, fuel=0.24, name="t.yaml"):
+    text = TRAINER.replace(COMPONENTS, empty_yaml + f"    fuel:\n      fraction: {fuel}\n")
+    assert text != TRAINER
+    path = tmp_path / name
+    path.write_text(text)
+    return Problem(load(path)).solve()
+
+
+def test_fixed_fractions_growth_factor_closed_form(tmp_path):
+    """m_TO = (m_crew + m_payload) / (1 - f_e - f_f), so d m_TO / d m_payload = 1 / (1 - f_e - f_f)
+    and the runaway margin is 1 - f_e - f_f.
+    # Source: Raymer 2018, Ch. 3, Eq. 3.4 (the sizing equation W0 = (Wcrew + Wpayload) /
+    # (1 - We/W0 - Wf/W0)), differentiated by hand."""
+    res = _solve(tmp_path, "    empty: {model: fraction, value: 0.55}\n", fuel=0.37)
+    ch = res.closure
+    assert res.design.takeoff_mass == pytest.approx(500.0 / (1 - 0.55 - 0.37), rel=1e-6)
+    assert ch.runaway_margin == pytest.approx(1 - 0.55 - 0.37, abs=1e-6)
+    assert ch.growth_factor == pytest.approx(1 / (1 - 0.55 - 0.37), rel=1e-5)
+    # 12.5 kg per kg and a margin of 0.08: both thresholds crossed, said in every output
+    assert "growth factor 12.5 kg per kg exceeds 10" in ch.warning and "runaway margin 0.080" in ch.warning
+    assert ch.warning in summary(res)
+    js = json.loads(to_json(res))["closure"]
+    assert js["growth_factor"] == pytest.approx(12.5, rel=1e-5) and js["warning"] == ch.warning
+    assert "near weight runaway" in to_markdown(document(res.spec, res, diagram=False, envelope=False, flight=False))
+
+
+def test_power_law_runaway_margin_is_marginal(tmp_path):
+    """For We/W0 = a W0^c the empty mass a W0^(1+c) grows by (1 + c) f_e per kg of W0, so the
+    runaway margin is 1 - (1 + c) f_e - f_f (hand calculation from Raymer 2018, Eq. 3.4 and the
+    Table 3.1 power law); with the design point held the growth factor is its inverse."""
+    res = _solve(tmp_path, "    empty: {model: statistical, a: 1.59, c: -0.10}\n")
+    d = res.design
+    f_e, f_f = d.empty_mass / d.takeoff_mass, d.fuel_mass / d.takeoff_mass
+    ch = res.closure
+    assert ch.runaway_margin == pytest.approx(1 - 0.9 * f_e - f_f, abs=1e-6)
+    # the average fraction would say 1 - f_e - f_f: the marginal one is larger for c < 0
+    assert ch.runaway_margin > 1 - f_e - f_f + 0.05
+    assert ch.growth_factor == pytest.approx(1 / ch.runaway_margin, rel=1e-3)
+
+
+def test_healthy_trainer_no_warning():
+    res = Problem(load(ROOT / "requirements" / "trainer-jet.yaml")).solve()
+    ch = res.closure
+    d = res.design
+    # the components model is linear in m_TO at a held design point: margin = 1 - f_e - f_f
+    # (hand calculation: wing kg/m^2 x S and kg/N x T both scale with m_TO)
+    assert ch.runaway_margin == pytest.approx(1 - (d.empty_mass + d.fuel_mass) / d.takeoff_mass, abs=1e-6)
+    assert ch.growth_factor < 10 and ch.runaway_margin > 0.1 and ch.warning == ""
+    assert "Closure health" in summary(res) and "WARNING: near weight runaway" not in summary(res)
+    assert json.loads(to_json(res))["closure"]["warning"] is None
+
+
+def test_explore_page_shows_closure_and_warning(tmp_path):
+    """The what-if page's result panel: closure health, and the warning near runaway."""
+    from bokeh.document import Document
+
+    from sizing.explore.engine import Explorer
+    from sizing.explore.page import Page
+
+    text = TRAINER.replace(COMPONENTS, "    empty: {model: fraction, value: 0.55}\n    fuel:\n      fraction: 0.37\n")
+    path = tmp_path / "near-runaway.yaml"
+    path.write_text(text)
+    ex = Explorer(path)
+    page = Page(ex, Document())
+    page._show_result(ex.base)
+    html = page.panel.text
+    assert "id='closure'" in html and "12.50 kg per kg" in html
+    assert "id='closure-warning'" in html and "near weight runaway" in html
+    page._show_result(Problem(load(ROOT / "requirements" / "trainer-jet.yaml")).solve())
+    assert "id='closure'" in page.panel.text and "closure-warning" not in page.panel.text
