@@ -1,6 +1,7 @@
 """Closure health (sizing.problem.health): the payload growth factor and the runaway margin,
 against the closed form of the weight closure."""
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -13,18 +14,12 @@ from sizing.reports.summary import summary
 
 ROOT = Path(__file__).resolve().parents[1]
 TRAINER = (ROOT / "requirements" / "trainer-jet.yaml").read_text()
-COMPONENTS = """    empty:
-      model: components
-      wing: 45 kg/m^2
-      propulsion: 0.028 kg/N
-      other: 0.32
-    fuel:
-      fraction: 0.24
-"""
+# the trainer's empty-mass and fuel blocks, whatever their factors and comments
+COMPONENTS = re.compile(r"    empty:\n      model: components\n(?:      .*\n)+?    fuel:\n      fraction: 0.24\n")
 
 
 def _solve(tmp_path, empty_yaml, fuel=0.24, name="t.yaml"):
-    text = TRAINER.replace(COMPONENTS, empty_yaml + f"    fuel:\n      fraction: {fuel}\n")
+    text = COMPONENTS.sub(lambda _m: empty_yaml + f"    fuel:\n      fraction: {fuel}\n", TRAINER, count=1)
     assert text != TRAINER
     path = tmp_path / name
     path.write_text(text)
@@ -47,6 +42,13 @@ def test_fixed_fractions_growth_factor_closed_form(tmp_path):
     js = json.loads(to_json(res))["closure"]
     assert js["growth_factor"] == pytest.approx(12.5, rel=1e-5) and js["warning"] == ch.warning
     assert "near weight runaway" in to_markdown(document(res.spec, res, diagram=False, envelope=False, flight=False))
+    from sizing.charts.diagram_data import notices_of
+
+    # the figures carry it too (the diagram's footer, above the caution); the fixed fractions
+    # also make the takeoff mass the same at every feasible point, which is said as well
+    notes = notices_of(res)
+    assert any(n.startswith("WARNING: near weight runaway") and "12.5 kg per kg" in n for n in notes)
+    assert any("does not depend on W/S" in n for n in notes)
 
 
 def test_power_law_runaway_margin_is_marginal(tmp_path):
@@ -82,7 +84,8 @@ def test_explore_page_shows_closure_and_warning(tmp_path):
     from sizing.explore.engine import Explorer
     from sizing.explore.page import Page
 
-    text = TRAINER.replace(COMPONENTS, "    empty: {model: fraction, value: 0.55}\n    fuel:\n      fraction: 0.37\n")
+    text = COMPONENTS.sub(lambda _m: "    empty: {model: fraction, value: 0.55}\n    fuel:\n      fraction: 0.37\n",
+                          TRAINER, count=1)
     path = tmp_path / "near-runaway.yaml"
     path.write_text(text)
     ex = Explorer(path)

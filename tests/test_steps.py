@@ -82,7 +82,9 @@ def test_slack_requirements_cost_exactly_zero(trainer):
 def test_step_that_leaves_no_design(tmp_path):
     """A search box that just holds the design: +0.1 g needs a point outside it. The independent
     check: the file with 4.1 g written in it has no feasible design."""
-    box = "design_space: {wing_loading: [3150 Pa, 15000 Pa], thrust_to_weight: [0.1, 0.6555]}\n"
+    free = _cold(tmp_path, TRAINER, "free.yaml").design
+    box = (f"design_space: {{wing_loading: [{free.wing_loading * 0.998:.0f} Pa, 15000 Pa], "
+           f"thrust_to_weight: [0.1, {free.thrust_to_weight * 1.001:.5f}]}}\n")
     text = TRAINER.replace("requirements:\n", box + "requirements:\n", 1)
     res = _cold(tmp_path, text, "box.yaml")
     assert res.feasible

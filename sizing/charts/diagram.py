@@ -421,7 +421,7 @@ def _draw_footer(fig, data):
     from ..common.version import __version__
 
     src = f"input: {data.source or 'in memory'}   sha256 {data.sha256[:12] or 'n/a'}   sizing {__version__}"
-    caution = "\n".join(textwrap.wrap(CAUTION, 150))
+    caution = "\n".join([*getattr(data, "notices", ()), *textwrap.wrap(CAUTION, 150)])
     fig.text(0.085, 0.012, f"{caution}\n{src}", fontsize=FONT["footer"], color="#333333", va="bottom",
              linespacing=1.35)
 

@@ -75,6 +75,7 @@ class DiagramData:
     references: tuple = ()            # (label, W/S [N/m^2], T/W or P/W [W/N]) the file lists
     view: str = "auto"                # "auto": zoomed on what matters; "full": every curve's minimum
     rating: str = ""                  # the rating T_SL (P_SL) is quoted at ("dry (military) rating", ...)
+    notices: tuple = ()               # what a reader must know before the numbers (closure warning, ...)
 
     def envelope(self):
         """(required Y at each W/S over all thrust curves, lowest W/S boundary)."""
@@ -345,7 +346,20 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
                        drivers=tuple(result.drivers), on_edge=tuple(result.on_edge),
                        infeasibility=result.infeasibility, source=Path(str(spec.path)).name,
                        sha256=spec.sha256, styles=styles_of(spec), references=reference_points(spec),
-                       view=view, rating=rating_of(spec))
+                       view=view, rating=rating_of(spec), notices=notices_of(result))
+
+
+def notices_of(result) -> tuple:
+    """The result's notices a figure must carry: the takeoff mass independent of the design
+    point, a weight closure near runaway (the same texts as the terminal summary)."""
+    out = []
+    if getattr(result, "mass_notice", ""):
+        out.append(f"NOTE: {result.mass_notice}")
+    ch = getattr(result, "closure", None)
+    if ch is not None and ch.warning:
+        out.append(f"WARNING: near weight runaway: payload growth factor {ch.growth_factor:,.1f} kg per kg, "
+                   f"runaway margin {ch.runaway_margin:.3f}")
+    return tuple(out)
 
 
 def rating_of(spec) -> str:
