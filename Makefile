@@ -32,13 +32,14 @@ browser:
 	        chromium fonts-liberation >/dev/null; } || echo "could not install chromium: the browser tests will skip"; \
 	  else echo "no $(CHROMIUM) and no apt-get as root here: the browser tests will skip"; fi; }
 
-# every test, the same hypothesis examples on every run; the 15 slowest are listed at the end
+# every test, the same hypothesis examples on every run, spread over the machine's cores
+# (pytest-xdist); the 15 slowest are listed at the end
 test: $(STAMP) browser
-	$(BIN)/python -m pytest -q -rs --durations=15
+	$(BIN)/python -m pytest -q -rs -n auto --durations=15
 
 # the same without the long groups (marked slow): brute-force grids, random sets, fuzzing
 quick: $(STAMP)
-	$(BIN)/python -m pytest -q -m "not slow" --durations=15
+	$(BIN)/python -m pytest -q -m "not slow" -n auto --durations=15
 
 # new hypothesis examples: prints the seed; `make fuzz SEED=<seed>` replays a run
 fuzz: $(STAMP)
