@@ -123,3 +123,29 @@ def test_workbook_and_study_chart_show_the_re_solved_step(trainer):
     assert "re-solved" in ax.get_title() and "sensitivity" not in ax.get_title()
     texts = [t.get_text() for t in ax.texts]
     assert f"{sc.delta_mass:+,.1f} kg (non-linear)" in texts
+
+
+@pytest.mark.parametrize("name", ["trainer-jet.yaml", "long-range-jet.yaml", "regional-turboprop.yaml"])
+def test_steps_within_the_margin_need_no_re_solve(name):
+    """A step smaller than a requirement's margin in its own quantity is taken as costing exactly 0
+    without solving again; solving every step again must agree (common practice, no source: an
+    inactive row with room left does not move the optimum)."""
+    from sizing.problem.package import sensitivities_of
+    from sizing.problem.steps import step_costs
+
+    spec = load(ROOT / "requirements" / name)
+    prob = Problem(spec)
+    p = prob.parameters(spec)
+    x, lam_g, _lam_x, _stats, ok = prob.solve_raw(p)
+    assert ok
+    res = prob.solve(p)
+    skipped = [r for r in res.requirements if not r.active and r.capability is not None
+               and r.capability.margin is not None and r.capability.margin > 1.01 * abs(r.step_cost.step)]
+    assert skipped                      # the shortcut is taken somewhere in each example
+    every = step_costs(prob, x, lam_g, p, spec, sensitivities_of(prob, x, lam_g, p))   # no shortcut
+    m0 = res.design.takeoff_mass
+    for r in res.requirements:
+        full = every[r.id]
+        assert full.feasible == r.step_cost.feasible, r.id
+        if r.step_cost.delta_mass is not None:
+            assert r.step_cost.delta_mass == pytest.approx(full.delta_mass, abs=NOISE_REL * m0 * 2), r.id

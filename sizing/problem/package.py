@@ -47,9 +47,10 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
     if sensitivities:
         dm = sensitivities_of(prob, x, lam_g, p)
         other = other_costs(prob, x, lam_g, p, tree)
-        steps = step_costs(prob, x, lam_g, p, spec, dm)      # re-solved steps (not in study runs)
     else:
-        dm, other, steps = {}, (), {}
+        dm, other = {}, ()
+    rows_out = []          # (RequirementResult fields, requirement id), completed with the steps below
+    room = {}              # margins in their own quantity: steps within them cost nothing
     out = []
     drivers = []
     for rid in prob.req_ids:
@@ -86,18 +87,26 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         if sens is not None and fixed_mass:
             sens = 0.0          # the mass does not move with any requirement while the set is feasible
         if sens is not None:
-            sens = denoised(sens * scale, steps.get(rid))
+            sens = sens * scale
+        if not active and cap is not None and cap.margin is not None:
+            room[rid] = (cap.margin, cap.unit)
         wf = r.get("weight_fraction")
         src = f"after {wf['after']}" if isinstance(wf, dict) else ("given" if wf is not None else "default 1.0")
         if wf is None and M.at_landing_weight(r) and ac.max_landing_fraction is not None:
             src = "max landing fraction"
-        out.append(RequirementResult(
+        rows_out.append(dict(
             id=rid, kind=r["kind"], active=active, margin=max(margin, 0.0),
             sensitivity=sens, sensitivity_unit=unit_text,
             value_text=value_text(spec_req, field),
             detail=detail,
-            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap,
-            step_cost=steps.get(rid)))
+            speed=V.get(rid), beta=float(np.asarray(req.beta)), beta_source=src, capability=cap))
+    # re-solved steps (not in study runs); a step within a requirement's margin costs nothing
+    steps = step_costs(prob, x, lam_g, p, spec, dm, room) if sensitivities else {}
+    for row in rows_out:
+        sc = steps.get(row["id"])
+        if row["sensitivity"] is not None:
+            row["sensitivity"] = denoised(row["sensitivity"], sc)
+        out.append(RequirementResult(**row, step_cost=sc))
     if mission_drives(prob, x, p, rows, vals):
         drivers.append("mission fuel")
     g = m_TO * g0

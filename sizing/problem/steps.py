@@ -61,12 +61,18 @@ def harder_sign(r: dict, field: str, slope) -> int:
     return h
 
 
-def step_costs(prob, x, lam_g, p, spec, slopes: dict) -> dict:
+def step_costs(prob, x, lam_g, p, spec, slopes: dict, room: dict | None = None) -> dict:
     """{requirement id: :class:`StepCost`} for every requirement whose value is a parameter.
 
     ``slopes``: d m_TO / d value [kg per SI unit] by requirement (see
     :func:`sizing.problem.package.sensitivities_of`). Each step is a warm-started
-    re-solve of the same built problem with the requirement's value moved."""
+    re-solve of the same built problem with the requirement's value moved.
+
+    ``room``: {id: (margin, unit)} of requirements that are not active, their margin in their own
+    quantity at the design point (:class:`sizing.problem.result.Capability`). A step smaller than
+    that margin leaves the requirement met at the same point, which stays the optimum (its row
+    is inactive, its multiplier zero): the change is exactly 0 and no re-solve is needed."""
+    room = room or {}
     idx = {path: i for i, path in enumerate(prob.paths)}
     m0 = float(x[2] * prob.m_ref)
     noise = NOISE_REL * m0
@@ -87,6 +93,12 @@ def step_costs(prob, x, lam_g, p, spec, slopes: dict) -> dict:
         linear = None if slope_user is None or not math.isfinite(slope_user) else slope_user * step
         if linear is not None and abs(linear) < noise:
             linear = 0.0
+        spare, spare_unit = room.get(rid, (None, None))
+        if (spare is not None and spare_unit == unit and math.isfinite(spare)
+                and spare > 1.01 * abs(step) and linear == 0.0):
+            out[rid] = StepCost(step=step, unit=unit + airspeed_label(field), value=value, delta_mass=0.0,
+                                linear_estimate=0.0, feasible=True)
+            continue
         pp = np.array(p, dtype=float)
         pp[j] += step * scale
         xs, _lg, _lx, _st, ok = prob.solve_raw(pp, x0=x, lam_g0=lam_g, lam_x0=lam_x)
