@@ -52,8 +52,8 @@ def test_sweep_points_equal_single_solves():
     res = run_study(SWEEP, workers=1, costs=False)
     t = res.table
     assert list(t.columns) == ["requirements.turn-4g.load_factor", "requirements.field.ground_roll", "status",
-                               "wing_loading_Pa", "thrust_to_weight", "takeoff_mass_kg", "wing_area_m2", "drivers",
-                               "conflicting"]
+                               "wing_loading_Pa", "thrust_to_weight", "takeoff_mass_kg", "wing_area_m2",
+                               "runaway_margin", "drivers", "conflicting"]
     assert len(t) == 6
     spec = load(TRAINER)
     statuses = set()
@@ -68,6 +68,9 @@ def test_sweep_points_equal_single_solves():
             assert row.wing_loading_Pa == pytest.approx(d.wing_loading, rel=1e-5)
             assert row.thrust_to_weight == pytest.approx(d.thrust_to_weight, rel=1e-5)
             assert row.wing_area_m2 == pytest.approx(d.wing_area, rel=1e-5)
+            # the components model is linear in m_TO at a held point: 1 - f_empty - f_fuel
+            # (hand calculation from the sizing equation, Raymer 2018 Eq. 3.4)
+            assert row.runaway_margin == pytest.approx(1 - (d.empty_mass + d.fuel_mass) / d.takeoff_mass, abs=1e-5)
             assert row.drivers == ";".join(ref.drivers)
         else:
             # infeasible points are kept, with NaNs, never dropped
@@ -223,3 +226,19 @@ def test_batched_numpy_check_matches_the_solver_check_point_by_point():
         expected = [ctx.prob.verify(XX[i], ctx.params(P[i])) for i in range(len(P))]
         assert list(S._verify_chunk(ctx, XX, P)) == expected
     assert not all(S._verify_chunk(ctx, X_bad, P))
+
+
+def test_study_summary_warns_of_designs_near_weight_runaway():
+    """A sweep of the empty-mass 'other' fraction: where 1 - f_empty - f_fuel falls below 0.10 the
+    summary warns and counts the designs (threshold: common practice, no source; the margin of the
+    components model is 1 - f_empty - f_fuel, Raymer 2018 Eq. 3.4 by hand)."""
+    from sizing.studies.plots import summary
+
+    res = run_study({"base": str(TRAINER), "sweep": {"aircraft.weights.empty.other": [0.30, 0.36]}},
+                    workers=1, costs=False)
+    t = res.table
+    assert (t["status"] == "optimal").all()
+    near = t["runaway_margin"] < 0.10
+    assert near.tolist() == [False, True]            # 0.12 at the file's 0.32; less with more empty mass
+    text = summary(res)
+    assert "WARNING: near weight runaway (runaway margin below 0.1) at 1 of 2 designs" in text

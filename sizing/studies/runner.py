@@ -24,6 +24,7 @@ from ..physics.atmosphere import g0 as G0
 from ..problem import ACTIVE_TOL, VERIFY_TOL, Problem
 from ..problem import tree as M
 from ..problem.continuation import Continuation
+from ..problem.health import RUNAWAY_WARN, runaway_margin
 from ..problem.nlp import IPOPT_OPTIONS
 from .definition import Study, load_study
 
@@ -235,13 +236,15 @@ def _run_chunk(job, chunk):
         code[i] = 0 if ok else (1 if st.get("return_status") in _INFEASIBLE_RETURNS else 2)
         X[i] = x if ok or code[i] == 1 else np.nan
         rows[i] = None
-    out = np.full((n, 4), np.nan)
+    out = np.full((n, 5), np.nan)
     drivers, conflicting = [""] * n, [""] * n
     for i in np.flatnonzero((code == 1) & np.all(np.isfinite(X), axis=1)):
         conflicting[i] = ";".join(_conflicting(prob, X[i], ctx.params(P[i])))
     for i in np.flatnonzero(code == 0):
         W_S, Y, m = X[i, 0] * prob.WS_scale, X[i, 1] * prob.Y_scale, X[i, 2] * prob.m_ref
-        out[i] = (W_S, Y, m, m * G0 / W_S)
+        with np.errstate(all="ignore"):
+            rm = runaway_margin(prob, prob.tree_of(ctx.params(P[i])), W_S, Y, m)
+        out[i] = (W_S, Y, m, m * G0 / W_S, rm)
         drivers[i] = ";".join(_drivers(ctx, X[i], ctx.params(P[i]), rows[i]))
     return {"chunk": cid, "idx": np.asarray(idx), "code": code, "out": out, "drivers": drivers,
             "conflicting": conflicting,
@@ -399,7 +402,8 @@ class StudyResult:
         """results.csv: ``#`` comment lines (title, how to read it, the caution), then one row per
         point. Every numeric column names its unit: a varied path as ``<path> [<unit as written>]``
         (``[-]`` for a plain number), the design as ``wing_loading_Pa``, ``thrust_to_weight`` [-] or
-        ``power_to_weight_W_per_N``, ``takeoff_mass_kg``, ``wing_area_m2``; an empty cell where no
+        ``power_to_weight_W_per_N``, ``takeoff_mass_kg``, ``wing_area_m2``, ``runaway_margin`` [-]
+        (1 - d(m_empty + m_fuel)/d m_TO at the point: the closure diverges at 0); an empty cell where no
         number exists (an infeasible point has no design). Read with ``pandas.read_csv(path,
         comment="#")``."""
         import numpy as np
@@ -411,7 +415,8 @@ class StudyResult:
         head = (f"# {self.study.title}: one row per point; varied values in the unit written in the study "
                 "file; design point SI; empty: no number (an infeasible point has no design); drivers: "
                 "active requirements, conflicting: the requirements in conflict where an infeasible solve "
-                f"ended\n# {CAUTION}\n")
+                f"ended; runaway_margin: 1 - d(m_empty + m_fuel)/d m_TO, below {RUNAWAY_WARN:g} near weight "
+                f"runaway\n# {CAUTION}\n")
         return head + t.to_csv(index=False, float_format="%.10g", lineterminator="\n")
 
     def write(self, output_dir) -> list:
@@ -449,7 +454,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     nw = 0 if dask is not None else min(int(workers or os.cpu_count() or 1), len(chunks)) or 1
     executor = "dask" if dask is not None else ("serial" if nw == 1 else "processes")
     bar = Progress(n, label="study", enabled=progress)
-    code, out = np.full(n, 2, dtype=np.int8), np.full((n, 4), np.nan)
+    code, out = np.full(n, 2, dtype=np.int8), np.full((n, 5), np.nan)
     drivers = np.array([""] * n, dtype=object)
     conflicting = np.array([""] * n, dtype=object)
     iters = fallbacks = 0
@@ -474,7 +479,7 @@ def run_study(source, workers=None, dask=None, limit=None, progress=None, costs=
     y_col = "power_to_weight_W_per_N" if study.base.is_propeller else "thrust_to_weight"
     table = pd.DataFrame({**cols, "status": [_CODES[int(c)] for c in code],
                           "wing_loading_Pa": out[:, 0], y_col: out[:, 1], "takeoff_mass_kg": out[:, 2],
-                          "wing_area_m2": out[:, 3], "drivers": list(drivers),
+                          "wing_area_m2": out[:, 3], "runaway_margin": out[:, 4], "drivers": list(drivers),
                           "conflicting": list(conflicting)})
     base = None
     if costs:
