@@ -96,3 +96,27 @@ def test_explore_page_shows_closure_and_warning(tmp_path):
     assert "id='closure-warning'" in html and "near weight runaway" in html
     page._show_result(Problem(load(ROOT / "requirements" / "trainer-jet.yaml")).solve())
     assert "id='closure'" in page.panel.text and "closure-warning" not in page.panel.text
+
+
+def test_a_relaxation_says_what_the_relaxed_design_weighs(tmp_path):
+    """The trainer asked for a 6 g sustained turn has no design; the relaxation printed says what
+    the lightest design weighs with the value as printed, and warns that it sits near weight
+    runaway. Independent check: the file with that value written in it, solved from scratch
+    (runaway margin 1 - f_empty - f_fuel for the components model, Raymer 2018 Eq. 3.4)."""
+    six = TRAINER.replace("load_factor: 4.0", "load_factor: 6.0")
+    assert six != TRAINER
+    (tmp_path / "six.yaml").write_text(six)
+    res = Problem(load(tmp_path / "six.yaml")).solve()
+    assert not res.feasible
+    rel = res.infeasibility.relaxations["turn-4g"]
+    line = summary(res)
+    assert f"load_factor: {rel['text']}   (closes at {rel['takeoff_mass_kg']:,.0f} kg; WARNING: near weight runaway" \
+        in line
+    (tmp_path / "pasted.yaml").write_text(TRAINER.replace("load_factor: 4.0", f"load_factor: {rel['text']}"))
+    cold = Problem(load(tmp_path / "pasted.yaml")).solve()
+    d = cold.design
+    assert d.takeoff_mass == pytest.approx(rel["takeoff_mass_kg"], rel=1e-6)
+    assert rel["runaway_margin"] == pytest.approx(1 - (d.empty_mass + d.fuel_mass) / d.takeoff_mass, abs=1e-5)
+    assert rel["runaway_margin"] < 0.10
+    js = json.loads(to_json(res))["infeasibility"]
+    assert js["relaxation_takeoff_mass_kg"]["turn-4g"] == pytest.approx(rel["takeoff_mass_kg"])

@@ -49,7 +49,7 @@ SETS = {
                       "  - {id: oei, kind: climb-gradient, gradient: 30 %, engines_out: 1, config: takeoff}\n"
                       "  - {id: field, kind: takeoff, ground_roll: 300 m}\n"),
 }
-LINE = re.compile(r"^    (\S+): (\w+): (.+?) -> (\w+): (.+)$")
+LINE = re.compile(r"^    (\S+): (\w+): (.+?) -> (\w+): (.+?)(?:   \(closes at ([\d,]+) kg[^)]*\))?$")
 
 
 @pytest.mark.parametrize("name", sorted(SETS))
@@ -69,7 +69,8 @@ def test_every_printed_relaxation_pastes_back_and_solves(tmp_path, name):
     assert len(found) >= 2, out
     data = yaml.safe_load(text)
     applied = copy.deepcopy(data)
-    for rid, key, was, key2, value in found:
+    for rid, key, was, key2, value, closes in found:
+        assert closes, out                                          # what the pasted set weighs
         assert key == key2 and "," not in value, value            # no thousands separator
         parsed = yaml.safe_load(f"{key}: {value}")                # the pasted line is YAML ...
         req = next(r for r in data["requirements"] if r["id"] == rid)
@@ -80,6 +81,10 @@ def test_every_printed_relaxation_pastes_back_and_solves(tmp_path, name):
         if together:
             next(r for r in applied["requirements"] if r["id"] == rid).update(parsed)
         else:
-            assert solve(validate(one, "pasted.yaml")).feasible, (rid, key, value)
+            res = solve(validate(one, "pasted.yaml"))
+            assert res.feasible, (rid, key, value)
+            assert res.design.takeoff_mass == pytest.approx(float(closes.replace(",", "")), abs=0.5)
     if together:
-        assert solve(validate(applied, "pasted.yaml")).feasible, found
+        res = solve(validate(applied, "pasted.yaml"))
+        assert res.feasible, found
+        assert res.design.takeoff_mass == pytest.approx(float(found[0][5].replace(",", "")), abs=0.5)

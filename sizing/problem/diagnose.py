@@ -343,9 +343,38 @@ def diagnose(prob, p, stats, spec=None):
             explanation = ("no change of the requirement values (alone or together, within the values "
                            "a requirement file accepts) restores feasibility; the aircraft data, the "
                            "weights or the design_space box rule out every design")
+    _closes_at_shown(prob, p, relax)
     info = Infeasibility(conflicts=tuple(conflicts), relaxations=relax, explanation=explanation)
     return Result(title=spec.title, status="infeasible", propeller=prob.propeller, design=None,
                     infeasibility=info, objective=prob.objective, stats=dict(stats), spec=spec)
+
+
+def _closes_at_shown(prob, p, relax):
+    """Add to each relaxation what the lightest design weighs with the value as printed (the one
+    that pastes back; all of them at once where they are needed together): ``takeoff_mass_kg``
+    and ``runaway_margin`` (:func:`sizing.problem.health.runaway_margin`), from one solve."""
+    from .health import runaway_margin
+
+    idx = {path: i for i, path in enumerate(prob.paths)}
+    together = [rid for rid, rel in relax.items() if rel.get("together")]
+    groups = [together] if together else []
+    groups += [[rid] for rid in relax if rid not in together]
+    for group in groups:
+        pv = np.array(p, dtype=float)
+        for rid in group:
+            rel = relax[rid]
+            j = idx.get(("requirements", rid, rel["field"]))
+            if j is None or rel.get("shown") is None or not rel.get("value"):
+                break
+            pv[j] = rel["shown"] * rel["si"] / rel["value"]          # SI per user unit x shown
+        else:
+            x, _lg, _lx, _st, ok = prob.solve_raw(pv)
+            if ok:
+                W_S, Y, m = float(x[0] * prob.WS_scale), float(x[1] * prob.Y_scale), float(x[2] * prob.m_ref)
+                with np.errstate(all="ignore"):
+                    rm = float(runaway_margin(prob, prob.tree_of(pv), W_S, Y, m))
+                for rid in group:
+                    relax[rid].update(takeoff_mass_kg=m, runaway_margin=rm)
 
 
 def _rescue(prob, p, x0, stats, spec):

@@ -67,6 +67,8 @@ def as_dict(result) -> dict:
                                 "relaxations": {k: v["value"] for k, v in rel.items()},
                                 "relaxation_units": {k: v["unit"] for k, v in rel.items()},
                                 "relaxation_text": {k: v.get("text", "") for k, v in rel.items()},
+                                "relaxation_takeoff_mass_kg": {k: v.get("takeoff_mass_kg") for k, v in rel.items()},
+                                "relaxation_runaway_margin": {k: v.get("runaway_margin") for k, v in rel.items()},
                                 "together": any(v.get("together", False) for v in rel.values()),
                                 "explanation": inf.explanation}
     return out

@@ -152,7 +152,21 @@ def relaxation_text(rid, rel) -> str:
     the requirement file writes them, so the part after '->' pastes back into the file."""
     field = rel.get("field", "value")
     was = f"{field}: {rel['from']} -> " if rel.get("from") else "-> "
-    return f"{rid}: {was}{rel.get('yaml') or f'{field}: ' + rel.get('text', '?')}"
+    return f"{rid}: {was}{rel.get('yaml') or f'{field}: ' + rel.get('text', '?')}{relaxed_design_text(rel)}"
+
+
+def relaxed_design_text(rel) -> str:
+    """'   (closes at 47,388 kg; WARNING: near weight runaway, runaway margin 0.011)': what the
+    relaxed set's lightest design weighs, after the part that pastes back ('' when not known)."""
+    m = rel.get("takeoff_mass_kg")
+    if m is None:
+        return ""
+    from ..problem.health import RUNAWAY_WARN
+
+    rm = rel.get("runaway_margin")
+    warn = (f"; WARNING: near weight runaway, runaway margin {rm:.3f}"
+            if rm is not None and rm < RUNAWAY_WARN else "")
+    return f"   (closes at {m:,.0f} kg{warn})"
 
 
 DRY = "dry rating"
