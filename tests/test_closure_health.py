@@ -110,7 +110,7 @@ def test_a_relaxation_says_what_the_relaxed_design_weighs(tmp_path):
     assert not res.feasible
     rel = res.infeasibility.relaxations["turn-4g"]
     line = summary(res)
-    assert f"load_factor: {rel['text']}   (closes at {rel['takeoff_mass_kg']:,.0f} kg; WARNING: near weight runaway" \
+    assert f"load_factor: {rel['text']} (closes at {rel['takeoff_mass_kg']:,.0f} kg; WARNING: near weight runaway" \
         in line
     (tmp_path / "pasted.yaml").write_text(TRAINER.replace("load_factor: 4.0", f"load_factor: {rel['text']}"))
     cold = Problem(load(tmp_path / "pasted.yaml")).solve()

@@ -49,7 +49,7 @@ SETS = {
                       "  - {id: oei, kind: climb-gradient, gradient: 30 %, engines_out: 1, config: takeoff}\n"
                       "  - {id: field, kind: takeoff, ground_roll: 300 m}\n"),
 }
-LINE = re.compile(r"^    (\S+): (\w+): (.+?) -> (\w+): (.+?)(?:   \(closes at ([\d,]+) kg[^)]*\))?$")
+LINE = re.compile(r"^    (\S+): (\w+): (.+?) -> (\w+): (.+?)(?: \(closes at ([\d,]+) kg[^)]*\))?$")
 
 
 @pytest.mark.parametrize("name", sorted(SETS))

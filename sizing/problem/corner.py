@@ -15,9 +15,9 @@ import warnings
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from .. import constraints as C
 from .. import weights as Wt
 from . import tree as M
+from .start import needs
 
 GRID = 400            # wing loadings of the first scan (geometric over the search region)
 CURVE_RTOL = 1e-12    # thrust accuracy of the curves at the corner (free speeds refined this far)
@@ -52,23 +52,7 @@ def mass_independent(prob, p) -> bool:
 
 def _curves(prob, tree, ac, W, rtol):
     """(Y needed, W/S limit, free speeds) of every requirement over the wing loadings W."""
-    Y_need = np.zeros_like(W)
-    ws_lim = np.full_like(W, np.inf)
-    speeds = {}
-    seg_end = Wt.segment_end_fractions(tree, ac, W)
-    for rid in prob.req_ids:
-        r = tree["requirements"][rid]
-        wf = r.get("weight_fraction")
-        beta = seg_end[wf["after"]] if isinstance(wf, dict) else None
-        req = M.requirement(r, ac, beta)
-        with np.errstate(all="ignore"):
-            thrust, lim, Vb = C.required_curve(req, ac, W, rtol=rtol)
-        if thrust is not None:
-            Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
-        if lim is not None:
-            ws_lim = np.minimum(ws_lim, lim)
-        if Vb is not None:
-            speeds[rid] = Vb
+    Y_need, ws_lim, speeds = needs(prob, tree, ac, W, Wt.segment_end_fractions(tree, ac, W), rtol=rtol)
     return np.maximum(Y_need, prob.Y_bounds[0]), ws_lim, speeds
 
 

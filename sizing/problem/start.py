@@ -44,27 +44,12 @@ def scan(prob, p, n=48):
 def _scan_once(prob, tree, W, takeoff_mass):
     """(Y needed, W/S limits met, best free speeds, closed mass, closes) over the W/S grid."""
     ac = M.aircraft(tree, takeoff_mass)
-    Y_need = np.zeros_like(W)
     ok = np.ones_like(W, dtype=bool)
-    speeds = {}
-    ws_lim = np.full_like(W, np.inf)
     try:
         seg_end = Wt.segment_end_fractions(tree, ac, W)
     except Exception:  # noqa: BLE001 - a guess only
         seg_end = {}
-    for rid in prob.req_ids:
-        r = tree["requirements"][rid]
-        wf = r.get("weight_fraction")
-        beta = seg_end.get(wf["after"], 1.0) if isinstance(wf, dict) else None
-        req = M.requirement(r, ac, beta)
-        with np.errstate(all="ignore"):
-            thrust, lim, Vb = C.required_curve(req, ac, W, samples=60, rtol=1e-6)   # a start only
-        if thrust is not None:
-            Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
-        if lim is not None:
-            ws_lim = np.minimum(ws_lim, lim)
-        if Vb is not None:
-            speeds[rid] = Vb
+    Y_need, ws_lim, speeds = needs(prob, tree, ac, W, seg_end, rtol=1e-6, samples=60)   # a start only
     ok &= W <= ws_lim
     Y_need = np.maximum(Y_need, prob.Y_bounds[0])
     ok &= Y_need <= prob.Y_bounds[1]
@@ -83,3 +68,29 @@ def _scan_once(prob, tree, W, takeoff_mass):
             mass = new
         closes &= mass < 1000 * fixed                      # inside the search region
     return Y_need, ok, speeds, mass, closes
+
+
+def needs(prob, tree, ac, W, seg_end, rtol, samples=None):
+    """(Y needed, W/S limit, best free speeds by id) of every requirement over the wing loadings
+    W [N/m^2]: the largest T/W (P/W) any requirement needs (inf where none meets it), the
+    smallest W/S limit, each free speed at its best (:func:`sizing.constraints.required_curve`).
+    ``seg_end``: the mission's weight fractions after each segment (``after:`` weights; 1.0
+    where a segment is missing)."""
+    Y_need = np.zeros_like(W)
+    ws_lim = np.full_like(W, np.inf)
+    speeds = {}
+    kw = {"rtol": rtol} if samples is None else {"rtol": rtol, "samples": samples}
+    for rid in prob.req_ids:
+        r = tree["requirements"][rid]
+        wf = r.get("weight_fraction")
+        beta = seg_end.get(wf["after"], 1.0) if isinstance(wf, dict) else None
+        req = M.requirement(r, ac, beta)
+        with np.errstate(all="ignore"):
+            thrust, lim, Vb = C.required_curve(req, ac, W, **kw)
+        if thrust is not None:
+            Y_need = np.maximum(Y_need, np.where(np.isfinite(thrust), thrust, np.inf))
+        if lim is not None:
+            ws_lim = np.minimum(ws_lim, lim)
+        if Vb is not None:
+            speeds[rid] = Vb
+    return Y_need, ws_lim, speeds

@@ -156,7 +156,7 @@ def relaxation_text(rid, rel) -> str:
 
 
 def relaxed_design_text(rel) -> str:
-    """'   (closes at 47,388 kg; WARNING: near weight runaway, runaway margin 0.011)': what the
+    """' (closes at 47,388 kg; WARNING: near weight runaway, runaway margin 0.011)': what the
     relaxed set's lightest design weighs, after the part that pastes back ('' when not known)."""
     m = rel.get("takeoff_mass_kg")
     if m is None:
@@ -166,7 +166,7 @@ def relaxed_design_text(rel) -> str:
     rm = rel.get("runaway_margin")
     warn = (f"; WARNING: near weight runaway, runaway margin {rm:.3f}"
             if rm is not None and rm < RUNAWAY_WARN else "")
-    return f"   (closes at {m:,.0f} kg{warn})"
+    return f" (closes at {m:,.0f} kg{warn})"
 
 
 DRY = "dry rating"
