@@ -13,7 +13,6 @@ import math
 import warnings
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from .. import weights as Wt
 from . import tree as M
@@ -81,6 +80,8 @@ def corner(prob, p, m_TO):
     a, b = W[max(i - 1, 0)], W[min(i + 1, W.size - 1)]
     Y_star = float(Y[i])
     if b > a:
+        from scipy.optimize import minimize_scalar  # here: scipy costs a cold command 0.3 s
+
         with np.errstate(all="ignore"), warnings.catch_warnings():
             warnings.simplefilter("ignore", RuntimeWarning)     # an infeasible probe's inf
             res = minimize_scalar(lambda w: float(need(w)[0][0]), bounds=(a, b), method="bounded",
