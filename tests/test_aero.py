@@ -3,8 +3,15 @@ import casadi as ca
 import numpy as np
 import pytest
 
-from sizing.physics.aero import (DragPolar, MachTable, induced_drag_factor, max_lift_to_drag, minimum_drag_speed,
-                         oswald_efficiency_straight_wing, stall_speed)
+from sizing.physics.aero import (
+    DragPolar,
+    MachTable,
+    induced_drag_factor,
+    max_lift_to_drag,
+    minimum_drag_speed,
+    oswald_efficiency_straight_wing,
+    stall_speed,
+)
 
 
 def test_max_lift_to_drag_anderson_examples():

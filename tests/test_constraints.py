@@ -7,9 +7,9 @@ import numpy as np
 import pytest
 
 from sizing import constraints as C
-from sizing.problem import tree as M
 from sizing.physics.aero import induced_drag_factor
 from sizing.physics.atmosphere import isa
+from sizing.problem import tree as M
 
 R0 = 6356766.0
 KT = 1852.0 / 3600.0

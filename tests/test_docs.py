@@ -19,7 +19,6 @@ import types
 import typing
 from pathlib import Path
 
-import pytest
 from pydantic import BaseModel
 
 try:

@@ -19,17 +19,17 @@ from scipy.interpolate import PchipInterpolator
 from scipy.optimize import brentq, minimize_scalar
 
 from sizing import constraints as C
-from sizing.problem import tree as M
-from sizing.physics.aero import DragPolar
-from sizing.physics.atmosphere import isa
 from sizing.charts.envelope import compute_envelope
 from sizing.charts.envelope_plot import plot_envelope, render
 from sizing.charts.performance import Conditions, Flight, specific_excess_power, sustained_load_factor
-from sizing.reports.review import envelope_section
-from sizing.common.errors import InputError
 from sizing.common.caution import CAUTION
-from sizing.problem import solve
+from sizing.common.errors import InputError
 from sizing.inputs.spec import load, validate
+from sizing.physics.aero import DragPolar
+from sizing.physics.atmosphere import isa
+from sizing.problem import solve
+from sizing.problem import tree as M
+from sizing.reports.review import envelope_section
 
 from .cliutil import run as run_cli
 

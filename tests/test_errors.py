@@ -26,8 +26,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from sizing import cli
-from sizing.common.errors import InputError
 from sizing.common.caution import CAUTION
+from sizing.common.errors import InputError
 from sizing.inputs.spec import load, load_text, validate
 
 from .cliutil import run as run_in_process

@@ -28,13 +28,13 @@ from hypothesis import strategies as st
 
 from sizing import cli
 from sizing import constraints as C
-from sizing.problem import tree as M
 from sizing import weights as Wt
-from sizing.physics.atmosphere import isa
 from sizing.common.errors import SolverError
-from sizing.reports.serialize import as_dict
-from sizing.problem import Problem, build, solve
 from sizing.inputs.spec import load_text, validate
+from sizing.physics.atmosphere import isa
+from sizing.problem import Problem, build, solve
+from sizing.problem import tree as M
+from sizing.reports.serialize import as_dict
 
 from .cliutil import run as run_cli
 

@@ -19,16 +19,16 @@ import pandas as pd
 import pytest
 
 from sizing import constraints as C
-from sizing.problem import tree as M
+from sizing import weights as Wt
 from sizing.charts import diagram as P
 from sizing.charts import diagram_data as PD
 from sizing.charts import style as PS
-from sizing import weights as Wt
-from sizing.common.errors import InputError
 from sizing.common.caution import CAUTION
+from sizing.common.errors import InputError
+from sizing.inputs.spec import load, validate
 from sizing.physics.propulsion import is_propeller
 from sizing.problem import solve
-from sizing.inputs.spec import load, validate
+from sizing.problem import tree as M
 
 from .cliutil import run as run_cli
 

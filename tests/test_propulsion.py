@@ -4,9 +4,16 @@ import numpy as np
 import pytest
 
 from sizing.physics.atmosphere import isa
-from sizing.physics.propulsion import (inlet_conditions, lapse_high_bypass, lapse_low_bypass, lapse_turbojet,
-                               power_lapse_piston, power_lapse_turboprop, thrust_lapse,
-                               thrust_lapse_turboprop)
+from sizing.physics.propulsion import (
+    inlet_conditions,
+    lapse_high_bypass,
+    lapse_low_bypass,
+    lapse_turbojet,
+    power_lapse_piston,
+    power_lapse_turboprop,
+    thrust_lapse,
+    thrust_lapse_turboprop,
+)
 
 R0 = 6356766.0
 

@@ -10,14 +10,13 @@ from pathlib import Path
 
 import pytest
 
-from sizing.problem.facts import design_facts
-
 import sizing
-from sizing.reports import review as R
 from sizing.common.caution import CAUTION
-from sizing.reports.summary import cost_line
-from sizing.problem import solve
 from sizing.inputs.spec import load, validate
+from sizing.problem import solve
+from sizing.problem.facts import design_facts
+from sizing.reports import review as R
+from sizing.reports.summary import cost_line
 
 from .cliutil import run as run_cli
 

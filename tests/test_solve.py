@@ -13,13 +13,13 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from sizing.problem import tree as M
-from sizing.problem import ACTIVE_TOL, Problem, build, solve
-from sizing.physics.airspeed import cas_to_mach
-from sizing.physics.atmosphere import isa
-from sizing.problem.capability import user_unit
 from sizing.common.errors import InputError
 from sizing.inputs.spec import load, load_text, validate
+from sizing.physics.airspeed import cas_to_mach
+from sizing.physics.atmosphere import isa
+from sizing.problem import ACTIVE_TOL, Problem, build, solve
+from sizing.problem import tree as M
+from sizing.problem.capability import user_unit
 
 from . import bruteforce as BF
 

@@ -15,8 +15,8 @@ import pytest
 
 from sizing.common.caution import CAUTION
 from sizing.common.errors import InputError
-from sizing.problem import solve
 from sizing.inputs.spec import load, validate
+from sizing.problem import solve
 from sizing.studies.runner import load_study, run_study
 
 from .cliutil import run as run_cli

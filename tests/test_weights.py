@@ -8,10 +8,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from sizing.inputs import units
 from sizing import weights as W
-from sizing.problem import solve
+from sizing.inputs import units
 from sizing.inputs.spec import load, validate
+from sizing.problem import solve
 
 from . import bruteforce as BF
 from .test_solve import check_against_grid
