@@ -350,16 +350,8 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
 
 
 def notices_of(result) -> tuple:
-    """The result's notices a figure must carry: the takeoff mass independent of the design
-    point, a weight closure near runaway (the same texts as the terminal summary)."""
-    out = []
-    if getattr(result, "mass_notice", ""):
-        out.append(f"NOTE: {result.mass_notice}")
-    ch = getattr(result, "closure", None)
-    if ch is not None and ch.warning:
-        out.append(f"WARNING: near weight runaway: payload growth factor {ch.growth_factor:,.1f} kg per kg, "
-                   f"runaway margin {ch.runaway_margin:.3f}")
-    return tuple(out)
+    """The result's notices a figure must carry (:attr:`sizing.problem.result.Result.notices`)."""
+    return tuple(getattr(result, "notices", ()) or ())
 
 
 def rating_of(spec) -> str:

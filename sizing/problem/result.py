@@ -168,6 +168,22 @@ class Result:
                 "engine, then the smallest wing")
 
     @property
+    def closure_warning(self) -> str:
+        """The weight closure's warning, one line ('' when the closure is healthy or unknown)."""
+        ch = self.closure
+        if ch is None or not ch.warning:
+            return ""
+        return (f"WARNING: near weight runaway: payload growth factor {ch.growth_factor:,.1f} kg per kg, "
+                f"runaway margin {ch.runaway_margin:.3f}")
+
+    @property
+    def notices(self) -> tuple:
+        """What a reader must know before the numbers, one line each: the takeoff mass independent
+        of the design point, a weight closure near runaway."""
+        out = [f"NOTE: {self.mass_notice}"] if self.mass_notice else []
+        return tuple(out + ([self.closure_warning] if self.closure_warning else []))
+
+    @property
     def feasible(self) -> bool:
         return self.status == "optimal"
 

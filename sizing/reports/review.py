@@ -195,6 +195,9 @@ def document(spec, res, *, diagram=True, envelope=True, flight=True, revision=No
               ("p", f"Sizing review of {src}{rev} · {date} · sizing {__version__} · input sha256 "
                     f"{spec.sha256[:12] or 'n/a'}"),
               ("caution", CAUTION)]
+    if getattr(res, "closure_warning", ""):        # before the numbers it makes uncertain
+        blocks.append(("caution", f"{res.closure_warning}: small errors in the weight estimate become "
+                                  "large errors in takeoff mass (see Closure health)."))
     facts = design_facts(spec, res)
     check = cross_check(res, spec)
     st = res.stats or {}
