@@ -270,6 +270,13 @@ def test_the_corner_with_a_wing_loading_limit(jet):
         assert r.active and r.margin == 0.0 and r.sensitivity == 0.0
     # the mass: crew + payload over 1 - empty - fuel fractions (weight closure)
     assert d.takeoff_mass == pytest.approx(300.0 / (1 - 0.6 - 0.2), rel=1e-9)
+    # the diagram (a plain Figure, no pyplot) says so in its footer and names no constant-mass lines
+    from sizing.charts.diagram import constraint_diagram
+
+    fig = constraint_diagram(jet.spec, result=jet).figure
+    texts = " ".join(t.get_text() for t in fig.texts)
+    assert "takeoff mass the same at every point" in texts and "constant takeoff mass" not in texts
+    assert "does not depend on W/S" in texts
 
 
 def test_the_corner_agrees_with_an_independent_grid_search(jet):

@@ -406,9 +406,11 @@ def _draw_no_design(ax, data, placer):
 
 def _draw_title(ax, fig, data, own):
     drivers = ", ".join(data.drivers) if data.drivers else "none"
+    m = data.mass[np.isfinite(data.mass)] if data.mass is not None else np.array([])
+    same = m.size == 0 or float(np.ptp(m)) <= 1e-9 * float(np.max(np.abs(m)))
+    mass_lines = ("takeoff mass the same at every point" if same else "dashed grey: constant takeoff mass")
     sub = ("constraint diagram · no feasible design" if data.design is None else
-           f"constraint diagram · drivers: {drivers} · hatched: infeasible side · "
-           f"dashed grey: constant takeoff mass")
+           f"constraint diagram · drivers: {drivers} · hatched: infeasible side · {mass_lines}")
     if own:
         fig.text(0.085, 0.955, data.title, fontsize=FONT["title"], fontweight="bold", va="top")
         fig.text(0.085, 0.915, sub, fontsize=FONT["subtitle"], color="#444444", va="top")
