@@ -234,8 +234,51 @@ _WORDS = {"[length]": "length", "[mass]": "mass", "[time]": "time", "[temperatur
           "1 / [time]": "frequency (1/time)", "[length] / [time] ** 2": "acceleration"}
 
 
+_BASE_ORDER = ("[mass]", "[length]", "[time]", "[temperature]", "[current]", "[substance]", "[luminosity]")
+
+
+def canonical_dimensions(dimensionality) -> str:
+    """A dimensionality as one text whatever order pint built it in: the base dimensions in the
+    order mass, length, time, temperature, ..., numerator then denominator (pint orders them as
+    they were first met, which depends on what was parsed before).
+
+    >>> canonical_dimensions("[length] * [mass] / [time] ** 2")
+    '[mass] * [length] / [time] ** 2'
+    >>> canonical_dimensions("1 / [time]"), canonical_dimensions("[length] ** 2")
+    ('1 / [time]', '[length] ** 2')
+    """
+    if isinstance(dimensionality, str):
+        exps, sign, last = {}, 1, None
+        for tok in re.findall(r"\*\*\s*-?[\d.]+|\*|/|\[[a-z_]+\]", dimensionality):
+            if tok == "/":
+                sign = -1
+            elif tok == "*":
+                sign = 1
+            elif tok.startswith("**"):
+                p = float(tok[2:])
+                exps[last] *= p
+            else:
+                exps[tok] = exps.get(tok, 0) + sign
+                last = tok
+    else:
+        exps = {str(k): v for k, v in dict(dimensionality).items()}
+
+    def order(d):
+        return (_BASE_ORDER.index(d) if d in _BASE_ORDER else len(_BASE_ORDER), d)
+
+    def term(d, e):
+        e = abs(e)
+        return d if e == 1 else f"{d} ** {int(e) if float(e).is_integer() else e}"
+
+    num = [term(d, e) for d, e in sorted(exps.items(), key=lambda kv: order(kv[0])) if e > 0]
+    den = [term(d, e) for d, e in sorted(exps.items(), key=lambda kv: order(kv[0])) if e < 0]
+    if not num and not den:
+        return "dimensionless"
+    return " / ".join([" * ".join(num) or "1", *den])
+
+
 def _dimension_words(dimensionality) -> str:
-    text = str(dimensionality)
+    text = canonical_dimensions(dimensionality)
     word = _WORDS.get(text)
     if word is None:
         return f"of dimension {text}"
