@@ -1,6 +1,8 @@
 """The command line in tests: in-process through :func:`sizing.cli.main` (quick: no new
 interpreter, no re-import), or the installed console script for the few smoke tests that
-must show the real entry point works."""
+must show the real entry point works.
+
+# common practice, no source: a helper that runs the command line; it checks no published value."""
 from __future__ import annotations
 
 import contextlib

@@ -9,6 +9,8 @@ aircraft): the mix the JSON crash of issue 13 came from. One
 file in twenty also asks for a 30 kn stall speed, which no design meets (the wing it needs
 weighs more than the closure allows), so the set holds infeasible files whatever the examples'
 tuning; each costs a diagnosis, about a second.
+
+# common practice, no source: a generator of inputs for robustness tests; it checks no published value.
 """
 from __future__ import annotations
 

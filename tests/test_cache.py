@@ -1,7 +1,10 @@
 """The on-disk cache (sizing.common.cache): a file read back from it, and a problem built from
 it, give exactly what validating and building afresh give; damaged entries are ignored;
 files with errors are never cached. The reference for every comparison is the uncached
-path (the one the brute-force tests check against the independent grid)."""
+path (the one the brute-force tests check against the independent grid).
+
+# common practice, no source: these tests check no published value; every comparison is the
+# cached path against the uncached one, bit for bit."""
 from __future__ import annotations
 
 import copy
