@@ -43,11 +43,11 @@ def test_fixed_fractions_growth_factor_closed_form(tmp_path):
     assert js["growth_factor"] == pytest.approx(12.5, rel=1e-5) and js["warning"] == ch.warning
     md = to_markdown(document(res.spec, res, diagram=False, envelope=False, flight=False))
     assert "near weight runaway" in md.split("## Design point")[0]      # at the top, before the numbers
-    from sizing.charts.diagram_data import notices_of
+    from sizing.charts.diagram_data import diagram_data
 
     # the figures carry it too (the diagram's footer, above the caution); the fixed fractions
     # also make the takeoff mass the same at every feasible point, which is said as well
-    notes = notices_of(res)
+    notes = diagram_data(res.spec, res, samples=11).notices
     assert any(n.startswith("WARNING: near weight runaway") and "12.5 kg per kg" in n for n in notes)
     assert any("does not depend on W/S" in n for n in notes)
 

@@ -346,12 +346,9 @@ def diagram_data(spec, result=None, *, units="si", samples=None, grid=(150, 120)
                        drivers=tuple(result.drivers), on_edge=tuple(result.on_edge),
                        infeasibility=result.infeasibility, source=Path(str(spec.path)).name,
                        sha256=spec.sha256, styles=styles_of(spec), references=reference_points(spec),
-                       view=view, rating=rating_of(spec), notices=notices_of(result))
+                       view=view, rating=rating_of(spec),
+                       notices=tuple(getattr(result, "notices", ()) or ()))
 
-
-def notices_of(result) -> tuple:
-    """The result's notices a figure must carry (:attr:`sizing.problem.result.Result.notices`)."""
-    return tuple(getattr(result, "notices", ()) or ())
 
 
 def rating_of(spec) -> str:

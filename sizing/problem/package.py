@@ -49,7 +49,7 @@ def package(prob, x, lam_g, p, stats, sensitivities=True, spec=None):
         other = other_costs(prob, x, lam_g, p, tree)
     else:
         dm, other = {}, ()
-    rows_out = []          # (RequirementResult fields, requirement id), completed with the steps below
+    rows_out = []          # RequirementResult fields by requirement, completed with the steps below
     room = {}              # margins in their own quantity: steps within them cost nothing
     out = []
     drivers = []

@@ -11,18 +11,6 @@ from ..physics.atmosphere import g0
 from ..physics.propulsion import axis_label, reference_label
 
 
-def step_for(unit: str, value: float):
-    """A readable step for 'what one more costs' lines, in the user's unit."""
-    if unit == "Mach":
-        return 0.01
-    if unit in ("g", "%"):
-        return 1.0 if unit == "g" else 0.1
-    mag = abs(value)
-    if mag >= 100:
-        return 10 ** (math.floor(math.log10(mag)) - 1)
-    return 1.0
-
-
 def step_text(step: float, unit: str) -> str:
     """'+0.1 g', '-10 m', '+1,000 ft', '+0.01 Mach': a signed step in the user's unit."""
     unit_txt = f" {unit}" if unit != "unit" else ""
@@ -32,7 +20,7 @@ def step_text(step: float, unit: str) -> str:
 def cost_step(r):
     """(step text, kg) for one step of a requirement's value in the harder direction: the
     re-solved change where the result has one (kg None when the step leaves no feasible
-    design), else the slope times a step."""
+    design), else the slope times the same readable step."""
     sc = getattr(r, "step_cost", None)
     if sc is not None:
         return step_text(sc.step, sc.unit), sc.delta_mass
@@ -43,7 +31,9 @@ def cost_step(r):
         val = float(r.value_text.split()[0]) if r.value_text else 1.0
     except ValueError:
         val = 1.0
-    step = step_for(unit, val)
+    from ..problem.steps import readable_step  # the one rule for a readable step
+
+    step = readable_step(unit.split()[0] if unit else unit, val)
     dm = r.sensitivity * step
     if dm < 0:
         step, dm = -step, -dm

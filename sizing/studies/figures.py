@@ -445,7 +445,7 @@ def costs(requirements, styles=None, ax=None):
     """Bar chart of what a step of each requirement costs at the base point (kg): the step
     re-solved where the result has it (:mod:`sizing.problem.steps`), in the requirement's
     colour; requirements that are not active and whose step costs nothing show their margin."""
-    from ..reports.summary import cost_step, step_reaches
+    from ..reports.summary import cost_step, fraction_margin, step_reaches
 
     ax = ax if ax is not None else figure().add_subplot()
     styles = styles or {}
@@ -460,7 +460,7 @@ def costs(requirements, styles=None, ax=None):
                          f"{c[1]:+,.1f} kg" + (" (non-linear)" if sc is not None and sc.nonlinear else ""))
             colours.append(driver_style(styles, r.id).colour if styles else PALETTE[1])
         else:
-            labels.append(f"{r.id} (margin {100 * r.margin:.1f} %)" if math.isfinite(r.margin) else r.id)
+            labels.append(f"{r.id} ({fraction_margin(r)})" if math.isfinite(r.margin) else r.id)
             values.append(0.0)
             notes.append("not active: 0 kg")
             colours.append("0.6")
@@ -470,7 +470,7 @@ def costs(requirements, styles=None, ax=None):
     ax.invert_yaxis()
     for yi, v, note in zip(y, values, notes):
         ax.annotate(note, (v, yi), xytext=(3, 0), textcoords="offset points", va="center", fontsize=FS["label"])
-    ax.margins(x=0.18)
+    ax.margins(x=0.32 if any("non-linear" in n for n in notes) else 0.18)   # room for the longest note
     ax.set_xlabel("takeoff mass added by a step of the requirement (about 3 % of its value) [kg]",
                   fontsize=FS["axis"])
     ax.set_title("what a step of each requirement costs at the base point (re-solved)", fontsize=FS["title"] - 1)

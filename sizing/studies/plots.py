@@ -99,8 +99,7 @@ def write_outputs(result, output_dir, folder=None, xlsx=False) -> list:
                 "null: not reached (no design at that probability)"),
             "input_influence_spearman": ({p: (r if math.isfinite(r) else None) for p, r in result.influence()}
                                          if st.mode == "sample" else None),
-            "near_runaway_points": int(((result.table["status"] == "optimal")
-                                        & (result.table["runaway_margin"] < RUNAWAY_WARN)).sum()),
+            "near_runaway_points": int(result.near_runaway().sum()),
             "near_runaway_threshold": RUNAWAY_WARN,
             "executor": result.executor, "workers": result.workers, "elapsed_s": result.elapsed_s,
             "ipopt_iterations": result.iterations, "points_solved_from_scratch": result.fallbacks,
@@ -184,7 +183,7 @@ def summary(result) -> str:
             if top:
                 lines.append("inputs that move takeoff mass most (Spearman rank correlation): "
                              + "; ".join(f"{p} {r:+.2f}" for p, r in top))
-        near = ok & (t["runaway_margin"] < RUNAWAY_WARN)
+        near = result.near_runaway()
         if near.any():
             lines.append(f"WARNING: near weight runaway (runaway margin below {RUNAWAY_WARN:g}) at {int(near.sum()):,} "
                          f"of {n_ok:,} designs, {t.loc[near, 'takeoff_mass_kg'].min():,.0f} kg and heavier: "

@@ -398,6 +398,11 @@ class StudyResult:
         t = self.table
         return rank_influence({v.path: t[v.path] for v in self.study.varied}, t["takeoff_mass_kg"], t["status"])
 
+    def near_runaway(self):
+        """Boolean Series: designs whose runaway margin is below :data:`RUNAWAY_WARN`."""
+        t = self.table
+        return (t["status"] == "optimal") & (t["runaway_margin"] < RUNAWAY_WARN)
+
     def csv_text(self) -> str:
         """results.csv: ``#`` comment lines (title, how to read it, the caution), then one row per
         point. Every numeric column names its unit: a varied path as ``<path> [<unit as written>]``
